@@ -1,0 +1,317 @@
+//! The brief: what the engineer asks for, read from TOML and flags, checked and given defaults.
+//!
+//! A [`BriefInput`] holds optional fields exactly as a user wrote them (TOML file or command-line
+//! flags; flags override the file through [`BriefInput::overlay`]). [`BriefInput::resolve`] turns it
+//! into a [`Brief`]: every field present, in SI units, finite and in range, or a [`BriefError`]
+//! that names the field, the value and the allowed range.
+//!
+//! Default limits are ILLUSTRATIVE (common practice, no source): they are not taken from any
+//! standard and must be replaced by the governing standard's values in real work.
+//!
+//! ```
+//! use loopwright::brief::BriefInput;
+//! let input: BriefInput = toml::from_str("entry_speed = \"90 km/h\"\nmax_g = 4.5").unwrap();
+//! let brief = input.resolve().unwrap();
+//! assert!((brief.entry_speed_m_s - 25.0).abs() < 1e-12);
+//! assert_eq!(brief.min_top_g, 0.2); // illustrative default
+//! ```
+
+use serde::{Deserialize, Serialize};
+use std::fmt;
+
+use crate::units::parse_speed_m_s;
+
+/// The demo brief shipped in `examples/demo-brief.toml` (an invented scenario).
+pub const DEMO_BRIEF_TOML: &str = include_str!("../examples/demo-brief.toml");
+
+/// Which shape family to design with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Hash)]
+#[serde(rename_all = "lowercase")]
+pub enum ShapeKind {
+    /// Constant radius, entered straight from level track.
+    Circle,
+    /// Teardrop: clothoid in, circular arc over the top, clothoid out.
+    Clothoid,
+    /// Curvature a smooth cubic spline of arc length, symmetric about the top.
+    Spline,
+}
+
+impl ShapeKind {
+    /// Every family, in the order reports list them.
+    pub const ALL: [ShapeKind; 3] = [ShapeKind::Circle, ShapeKind::Clothoid, ShapeKind::Spline];
+
+    /// The name used in briefs, flags and file names.
+    pub fn name(self) -> &'static str {
+        match self {
+            ShapeKind::Circle => "circle",
+            ShapeKind::Clothoid => "clothoid",
+            ShapeKind::Spline => "spline",
+        }
+    }
+
+    /// Parse a family name as written by a user.
+    pub fn parse(text: &str) -> Result<Self, BriefError> {
+        ShapeKind::ALL
+            .into_iter()
+            .find(|k| k.name() == text.trim().to_ascii_lowercase())
+            .ok_or_else(|| BriefError {
+                field: "shape".into(),
+                message: format!("unknown shape family '{text}'; choose one of circle, clothoid, spline"),
+            })
+    }
+}
+
+impl fmt::Display for ShapeKind {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// What the optimiser is asked to find.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", tag = "kind")]
+pub enum Objective {
+    /// The tallest loop the limits allow at the entry speed.
+    Tallest,
+    /// A loop of this heartline height with the lowest peak normal load.
+    Height { height_m: f64 },
+}
+
+/// A speed as written in TOML: a number (m/s) or a string with a unit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum SpeedText {
+    /// Metres per second.
+    Number(f64),
+    /// A number with a unit suffix: m/s, km/h or mph.
+    Text(String),
+}
+
+/// A brief as the user wrote it: every field optional.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BriefInput {
+    pub name: Option<String>,
+    pub title: Option<String>,
+    pub shape: Option<String>,
+    pub entry_speed: Option<SpeedText>,
+    pub max_g: Option<f64>,
+    pub min_top_g: Option<f64>,
+    pub max_onset_g_s: Option<f64>,
+    pub max_height_m: Option<f64>,
+    pub min_radius_m: Option<f64>,
+    pub height_m: Option<f64>,
+    pub heartline_height_m: Option<f64>,
+    pub rolling_resistance: Option<f64>,
+    pub drag_area_m2: Option<f64>,
+    pub mass_kg: Option<f64>,
+    pub air_density_kg_m3: Option<f64>,
+    pub lead_length_m: Option<f64>,
+    pub spacing_m: Option<f64>,
+}
+
+/// A complete, checked brief in SI units.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Brief {
+    pub name: String,
+    pub title: String,
+    pub shape: ShapeKind,
+    pub entry_speed_m_s: f64,
+    pub max_g: f64,
+    pub min_top_g: f64,
+    pub max_onset_g_s: Option<f64>,
+    pub max_height_m: Option<f64>,
+    pub min_radius_m: f64,
+    pub objective: Objective,
+    pub heartline_height_m: f64,
+    pub rolling_resistance: f64,
+    pub drag_area_m2: f64,
+    pub mass_kg: f64,
+    pub air_density_kg_m3: f64,
+    pub lead_length_m: f64,
+    pub spacing_m: f64,
+}
+
+/// A field of the brief that cannot be used, and why.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("brief field '{field}': {message}")]
+pub struct BriefError {
+    pub field: String,
+    pub message: String,
+}
+
+/// Defaults, all ILLUSTRATIVE (common practice, no source) unless a source is named.
+pub mod defaults {
+    pub const ENTRY_SPEED_M_S: f64 = 25.0;
+    pub const MAX_G: f64 = 4.5;
+    pub const MIN_TOP_G: f64 = 0.2;
+    /// Smallest heartline radius of curvature allowed anywhere; keeps `tallest` from shrinking the
+    /// top to a point (common practice, no source).
+    pub const MIN_RADIUS_M: f64 = 4.0;
+    /// Heartline above the rail centreline (common practice, no source).
+    pub const HEARTLINE_HEIGHT_M: f64 = 1.1;
+    /// Wheel rolling-resistance coefficient (from memory of published coaster estimates, 0.01-0.03).
+    pub const ROLLING_RESISTANCE: f64 = 0.015;
+    /// Drag coefficient times frontal area of the train (from memory, of the order of 1 m²).
+    pub const DRAG_AREA_M2: f64 = 1.0;
+    /// Train mass (illustrative).
+    pub const MASS_KG: f64 = 5000.0;
+    /// Sea-level air density of the ICAO / ISO 2533 standard atmosphere.
+    pub const AIR_DENSITY_KG_M3: f64 = 1.225;
+    /// Level track drawn before and after the loop (illustrative).
+    pub const LEAD_LENGTH_M: f64 = 5.0;
+    /// Heartline sample spacing for the reported design.
+    pub const SPACING_M: f64 = 0.05;
+}
+
+fn err(field: &str, message: impl Into<String>) -> BriefError {
+    BriefError { field: field.into(), message: message.into() }
+}
+
+/// Check a number is finite and within `[lo, hi]`; the message gives the unit and range.
+fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, BriefError> {
+    if !value.is_finite() {
+        return Err(err(field, format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}")));
+    }
+    if value < lo || value > hi {
+        return Err(err(field, format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}")));
+    }
+    Ok(value)
+}
+
+impl BriefInput {
+    /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
+    pub fn from_toml(text: &str) -> Result<Self, BriefError> {
+        toml::from_str(text).map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
+    }
+
+    /// Fields set in `over` replace those in `self` (flags over a file).
+    pub fn overlay(self, over: BriefInput) -> BriefInput {
+        macro_rules! pick {
+            ($($f:ident),*) => { BriefInput { $($f: over.$f.or(self.$f)),* } };
+        }
+        pick!(
+            name, title, shape, entry_speed, max_g, min_top_g, max_onset_g_s, max_height_m,
+            min_radius_m, height_m, heartline_height_m, rolling_resistance, drag_area_m2, mass_kg,
+            air_density_kg_m3, lead_length_m, spacing_m
+        )
+    }
+
+    /// Fill defaults, convert units and check every field.
+    pub fn resolve(&self) -> Result<Brief, BriefError> {
+        use defaults as d;
+        let name = self.name.clone().unwrap_or_else(|| "loop".to_string());
+        if name.is_empty()
+            || name.len() > 64
+            || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+        {
+            return Err(err(
+                "name",
+                format!("'{name}' cannot be a file stem; use 1 to 64 letters, digits, '-' or '_'"),
+            ));
+        }
+        let title = self.title.clone().unwrap_or_else(|| name.clone());
+        if title.len() > 200 {
+            return Err(err("title", "longer than 200 characters"));
+        }
+        let shape = match &self.shape {
+            Some(s) => ShapeKind::parse(s)?,
+            None => ShapeKind::Clothoid,
+        };
+        let entry_speed_m_s = match &self.entry_speed {
+            None => d::ENTRY_SPEED_M_S,
+            Some(SpeedText::Number(v)) => *v,
+            Some(SpeedText::Text(t)) => parse_speed_m_s(t).map_err(|m| err("entry_speed", m))?,
+        };
+        let entry_speed_m_s = in_range("entry_speed", entry_speed_m_s, 1.0, 150.0, "m/s")?;
+        let max_g = in_range("max_g", self.max_g.unwrap_or(d::MAX_G), 1.0, 20.0, "g")?;
+        let min_top_g = in_range("min_top_g", self.min_top_g.unwrap_or(d::MIN_TOP_G), -1.5, 20.0, "g")?;
+        if min_top_g >= max_g {
+            return Err(err(
+                "min_top_g",
+                format!("{min_top_g} g is not below max_g = {max_g} g; the top load must lie under the peak limit"),
+            ));
+        }
+        let max_onset_g_s = self
+            .max_onset_g_s
+            .map(|v| in_range("max_onset_g_s", v, 0.01, 1000.0, "g/s"))
+            .transpose()?;
+        let max_height_m = self
+            .max_height_m
+            .map(|v| in_range("max_height_m", v, 0.5, 500.0, "m"))
+            .transpose()?;
+        let min_radius_m = in_range("min_radius_m", self.min_radius_m.unwrap_or(d::MIN_RADIUS_M), 0.1, 500.0, "m")?;
+        let objective = match self.height_m {
+            None => Objective::Tallest,
+            Some(h) => Objective::Height { height_m: in_range("height_m", h, 0.5, 500.0, "m")? },
+        };
+        if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m) {
+            if height_m > max_h {
+                return Err(err(
+                    "height_m",
+                    format!("{height_m} m is above max_height_m = {max_h} m; the two contradict each other"),
+                ));
+            }
+        }
+        let heartline_height_m = in_range(
+            "heartline_height_m",
+            self.heartline_height_m.unwrap_or(d::HEARTLINE_HEIGHT_M),
+            0.0,
+            5.0,
+            "m",
+        )?;
+        if heartline_height_m >= min_radius_m {
+            return Err(err(
+                "heartline_height_m",
+                format!(
+                    "{heartline_height_m} m is not below min_radius_m = {min_radius_m} m; the rail would fold over itself at the tightest point"
+                ),
+            ));
+        }
+        Ok(Brief {
+            name,
+            title,
+            shape,
+            entry_speed_m_s,
+            max_g,
+            min_top_g,
+            max_onset_g_s,
+            max_height_m,
+            min_radius_m,
+            objective,
+            heartline_height_m,
+            rolling_resistance: in_range(
+                "rolling_resistance",
+                self.rolling_resistance.unwrap_or(d::ROLLING_RESISTANCE),
+                0.0,
+                0.5,
+                "(dimensionless)",
+            )?,
+            drag_area_m2: in_range("drag_area_m2", self.drag_area_m2.unwrap_or(d::DRAG_AREA_M2), 0.0, 50.0, "m²")?,
+            mass_kg: in_range("mass_kg", self.mass_kg.unwrap_or(d::MASS_KG), 10.0, 1.0e6, "kg")?,
+            air_density_kg_m3: in_range(
+                "air_density_kg_m3",
+                self.air_density_kg_m3.unwrap_or(d::AIR_DENSITY_KG_M3),
+                0.0,
+                2.0,
+                "kg/m³",
+            )?,
+            lead_length_m: in_range("lead_length_m", self.lead_length_m.unwrap_or(d::LEAD_LENGTH_M), 0.0, 200.0, "m")?,
+            spacing_m: in_range("spacing_m", self.spacing_m.unwrap_or(d::SPACING_M), 0.005, 1.0, "m")?,
+        })
+    }
+}
+
+impl Brief {
+    /// The built-in demo brief.
+    pub fn demo() -> Brief {
+        BriefInput::from_toml(DEMO_BRIEF_TOML)
+            .and_then(|b| b.resolve())
+            .expect("the shipped demo brief is valid (checked by a test)")
+    }
+
+    /// Drag deceleration per unit speed squared, 1/m: ρ·CdA/m, the k in d(v²)/ds = … − k·v².
+    pub fn drag_per_metre(&self) -> f64 {
+        self.air_density_kg_m3 * self.drag_area_m2 / self.mass_kg
+    }
+}

@@ -1,0 +1,293 @@
+//! Geometry: a curvature profile integrated into the heartline and the rail centreline.
+//!
+//! The shape stage gives κ(s) of the heartline. This module integrates pitch θ(s) = ∫κ ds (exact,
+//! the profile is polynomial) and position (x, z) = ∫(cos θ, sin θ) ds, then offsets the rail from
+//! the heartline along the track normal, away from the rider's head. Axes: X along the entry
+//! direction, Y to the rider's left at entry, Z up; the entry point of the heartline is the origin.
+//!
+//! Position integration per segment kind:
+//! - straight and arc: closed form;
+//! - clothoid (κ linear in s): Fresnel integrals, via the `fresnel` crate (a translation of Cephes);
+//! - cubic curvature: 8-point Gauss–Legendre quadrature on every sample interval.
+//!
+//! ```
+//! use loopwright::{geometry::Centreline, shape::{family}, brief::ShapeKind};
+//! let profile = family(ShapeKind::Circle).curvature(&[], 10.0).unwrap();
+//! let c = Centreline::build(&profile, 1.1, 0.05);
+//! // A circle of radius 10 m tops out 20 m up and comes back to where it started.
+//! assert!((c.top().heartline_m.z - 20.0).abs() < 1e-9);
+//! assert!(c.stations.last().unwrap().heartline_m.norm() < 1e-9);
+//! ```
+
+use nalgebra::Vector3;
+use std::f64::consts::PI;
+
+use crate::shape::{CurvatureProfile, CurvatureSegment, SegmentKind};
+
+/// One sample of the path.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Station {
+    /// Heartline arc length from the start of the lead-in, m.
+    pub s_m: f64,
+    /// Heartline position, m.
+    pub heartline_m: Vector3<f64>,
+    /// Rail centreline position, m.
+    pub rail_m: Vector3<f64>,
+    /// Unit tangent (direction of travel).
+    pub tangent: Vector3<f64>,
+    /// Unit normal towards the rider's head ("up" in the seat).
+    pub head: Vector3<f64>,
+    /// Unit vector to the rider's left, head × tangent.
+    pub left: Vector3<f64>,
+    /// Pitch of the tangent above the entry direction, rad (0 → 2π through a loop).
+    pub pitch_rad: f64,
+    /// Heartline curvature about the rider's left axis, 1/m (positive curving towards the head).
+    pub curvature_1_m: f64,
+    /// Curvature vector dT/ds, 1/m.
+    pub curvature_vec_1_m: Vector3<f64>,
+    /// Index of the smooth piece this station belongs to; it increases at every curvature step.
+    pub piece: usize,
+    /// Whether the station lies on the loop proper (not lead track).
+    pub in_loop: bool,
+}
+
+/// A jump in curvature where two segments meet (e.g. a circle entered from straight track).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CurvatureStep {
+    pub s_m: f64,
+    pub before_1_m: f64,
+    pub after_1_m: f64,
+}
+
+/// The sampled path: heartline, rail, frames.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Centreline {
+    pub stations: Vec<Station>,
+    pub steps: Vec<CurvatureStep>,
+    pub heartline_height_m: f64,
+    /// Arc-length interval of the loop proper.
+    pub loop_span_m: (f64, f64),
+}
+
+/// 8-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
+const GL8: [(f64, f64); 8] = [
+    (-0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
+    (-0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
+    (-0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
+    (-0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
+    (0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
+    (0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
+    (0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
+    (0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
+];
+
+/// Planar displacement (Δx, Δz) along a segment from local arc length 0 to `t`, starting at pitch `theta0`.
+pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64, f64) {
+    let k0 = seg.coeffs[0];
+    match seg.kind {
+        SegmentKind::Straight => (t * theta0.cos(), t * theta0.sin()),
+        SegmentKind::Arc if k0.abs() > 1e-300 => {
+            let th = theta0 + k0 * t;
+            ((th.sin() - theta0.sin()) / k0, (theta0.cos() - th.cos()) / k0)
+        }
+        SegmentKind::Clothoid => clothoid_displacement(theta0, k0, seg.coeffs[1], t)
+            .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
+        _ => quadrature_displacement(seg, theta0, 0.0, t),
+    }
+}
+
+/// Displacement along κ(τ) = k0 + c·τ by Fresnel integrals; `None` where the formula would lose
+/// precision (nearly constant curvature), so the caller falls back to quadrature.
+///
+/// With θ(τ) = θ0 + k0·τ + c·τ²/2, complete the square: θ = φ + sgn(c)·(π/2)·w², where
+/// a = √(|c|/π), w = a(τ + k0/c), φ = θ0 − k0²/(2c). Then ∫₀ᵗ e^{iθ} dτ =
+/// (e^{iφ}/a)·[ΔC + i·sgn(c)·ΔS] with C, S the Fresnel integrals of A&S 7.3.1 between w(0) and w(t).
+pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f64, f64)> {
+    if c == 0.0 {
+        return None;
+    }
+    let a = (c.abs() / PI).sqrt();
+    let w0 = a * k0 / c;
+    let w1 = a * (t + k0 / c);
+    // Past |w| ≈ 10 the differences of C and S cancel badly; quadrature is then the better tool.
+    if w0.abs() > 10.0 || w1.abs() > 10.0 {
+        return None;
+    }
+    let (s0, c0) = fresnel::fresnl(w0);
+    let (s1, c1) = fresnel::fresnl(w1);
+    let (dc, ds) = (c1 - c0, (s1 - s0) * c.signum());
+    let phi = theta0 - k0 * k0 / (2.0 * c);
+    let (sp, cp) = phi.sin_cos();
+    Some(((cp * dc - sp * ds) / a, (sp * dc + cp * ds) / a))
+}
+
+/// Displacement from local `t0` to `t1` by 8-point Gauss–Legendre on each of a few sub-intervals.
+pub fn quadrature_displacement(seg: &CurvatureSegment, theta0: f64, t0: f64, t1: f64) -> (f64, f64) {
+    let parts = (((t1 - t0).abs() / 0.25).ceil() as usize).clamp(1, 100_000);
+    let h = (t1 - t0) / parts as f64;
+    let (mut dx, mut dz) = (0.0, 0.0);
+    for p in 0..parts {
+        let a = t0 + h * p as f64;
+        for (node, w) in GL8 {
+            let tau = a + 0.5 * h * (node + 1.0);
+            let th = theta0 + seg.turn_rad(tau);
+            dx += 0.5 * h * w * th.cos();
+            dz += 0.5 * h * w * th.sin();
+        }
+    }
+    (dx, dz)
+}
+
+impl Centreline {
+    /// Sample `profile` every `spacing_m` or closer (every segment boundary is a station) and build
+    /// heartline, rail and frames. At a curvature step the boundary appears twice, once with the
+    /// curvature before and once after, so the step in load is visible in the table.
+    pub fn build(profile: &CurvatureProfile, heartline_height_m: f64, spacing_m: f64) -> Centreline {
+        let mut stations = Vec::new();
+        let mut steps = Vec::new();
+        let (mut x, mut z) = (0.0, 0.0);
+        let mut piece = 0;
+        let loop_span_m = profile.loop_span_m();
+        let mut prev_end_curv: Option<f64> = None;
+        for (i, seg) in profile.segments().iter().enumerate() {
+            let s0 = profile.segment_start_m(i);
+            let theta0 = profile.segment_pitch_rad(i);
+            let k_start = seg.curvature_1_m(0.0);
+            let n = ((seg.length_m / spacing_m).ceil() as usize).max(2);
+            // Even counts put a station on every segment midpoint too.
+            let n = n + n % 2;
+            let first = match prev_end_curv {
+                None => 0,
+                Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
+                    steps.push(CurvatureStep { s_m: s0, before_1_m: k_prev, after_1_m: k_start });
+                    piece += 1;
+                    0
+                }
+                // Continuous curvature: the previous segment's last station serves as this one's first.
+                Some(_) => 1,
+            };
+            for j in first..=n {
+                let t = seg.length_m * j as f64 / n as f64;
+                let (dx, dz) = segment_displacement(seg, theta0, t);
+                let s_m = s0 + t;
+                let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
+                stations.push(planar_station(
+                    s_m,
+                    x + dx,
+                    z + dz,
+                    theta0 + seg.turn_rad(t),
+                    seg.curvature_1_m(t),
+                    heartline_height_m,
+                    piece,
+                    in_loop,
+                ));
+            }
+            let (dx, dz) = segment_displacement(seg, theta0, seg.length_m);
+            x += dx;
+            z += dz;
+            prev_end_curv = Some(seg.curvature_1_m(seg.length_m));
+        }
+        Centreline { stations, steps, heartline_height_m, loop_span_m }
+    }
+
+    /// The highest heartline station.
+    pub fn top(&self) -> &Station {
+        self.stations
+            .iter()
+            .max_by(|a, b| a.heartline_m.z.total_cmp(&b.heartline_m.z))
+            .expect("a centreline has stations")
+    }
+
+    /// Index of the highest heartline station.
+    pub fn top_index(&self) -> usize {
+        let top = self.top().s_m;
+        self.stations.iter().position(|s| s.s_m == top).unwrap_or(0)
+    }
+
+    /// Heartline height of the top above the heartline at entry, m.
+    pub fn loop_height_m(&self) -> f64 {
+        self.top().heartline_m.z - self.stations[0].heartline_m.z
+    }
+
+    /// Height of the rail's highest point above the rail at entry, m.
+    pub fn rail_height_m(&self) -> f64 {
+        let top = self.stations.iter().map(|s| s.rail_m.z).fold(f64::MIN, f64::max);
+        top - self.stations[0].rail_m.z
+    }
+
+    /// Arc length of the loop proper (heartline), m.
+    pub fn loop_length_m(&self) -> f64 {
+        self.loop_span_m.1 - self.loop_span_m.0
+    }
+
+    /// Smallest heartline radius of curvature on the loop, m.
+    pub fn min_radius_m(&self) -> f64 {
+        1.0 / self.stations.iter().map(|s| s.curvature_vec_1_m.norm()).fold(0.0, f64::max)
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn planar_station(
+    s_m: f64,
+    x: f64,
+    z: f64,
+    pitch_rad: f64,
+    curvature_1_m: f64,
+    heartline_height_m: f64,
+    piece: usize,
+    in_loop: bool,
+) -> Station {
+    let (sn, cs) = pitch_rad.sin_cos();
+    let tangent = Vector3::new(cs, 0.0, sn);
+    // Inside the loop the rider's head points to the centre of curvature.
+    let head = Vector3::new(-sn, 0.0, cs);
+    let left = head.cross(&tangent);
+    let heartline_m = Vector3::new(x, 0.0, z);
+    Station {
+        s_m,
+        heartline_m,
+        rail_m: heartline_m - heartline_height_m * head,
+        tangent,
+        head,
+        left,
+        pitch_rad,
+        curvature_1_m,
+        curvature_vec_1_m: curvature_1_m * head,
+        piece,
+        in_loop,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::brief::ShapeKind;
+    use crate::shape::family;
+
+    // Fresnel (closed form) and Gauss–Legendre quadrature are independent integrators of the same
+    // Euler spiral; they must agree to near machine precision (numerical analysis, no source needed).
+    #[test]
+    fn fresnel_and_quadrature_agree_on_clothoids() {
+        for &(theta0, k0, c, t) in &[(0.0, 0.0, 0.01, 30.0), (1.0, 0.1, -0.004, 25.0), (2.5, 0.05, 0.002, 12.0)] {
+            let seg = CurvatureSegment::clothoid(t, k0, k0 + c * t);
+            let (fx, fz) = clothoid_displacement(theta0, k0, c, t).unwrap();
+            let (qx, qz) = quadrature_displacement(&seg, theta0, 0.0, t);
+            assert!((fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10, "{fx} {qx} {fz} {qz}");
+        }
+    }
+
+    // Every family's loop must close level at entry height (loop-closure; see shape module).
+    #[test]
+    fn loops_leave_level_at_entry_height() {
+        for kind in ShapeKind::ALL {
+            let f = family(kind);
+            let p = f.curvature_with_leads(&f.default_shape(), 8.0, 5.0).unwrap();
+            let c = Centreline::build(&p, 1.1, 0.05);
+            let last = c.stations.last().unwrap();
+            assert!(last.heartline_m.z.abs() < 1e-9, "{kind}: exit z = {}", last.heartline_m.z);
+            assert!((last.pitch_rad - 2.0 * PI).abs() < 1e-12);
+            // The rail sits heartline_height below the heartline on level track.
+            assert!((last.rail_m.z + 1.1).abs() < 1e-12);
+        }
+    }
+}

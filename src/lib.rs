@@ -1,0 +1,13 @@
+//! loopwright: vertical-loop geometry for roller-coaster concept studies.
+//!
+//! Data flows one way, one module per stage:
+//! [`brief`] → [`shape`] → [`geometry`] → [`dynamics`] → [`checks`] → [`optimiser`] → [`export`].
+//!
+//! CAUTION: results are for concept studies only. Final design must follow the governing standard
+//! (e.g. ASTM F2291, EN 13814), local codes and a licensed engineer's review. Default limits are
+//! illustrative.
+
+pub mod brief;
+pub mod geometry;
+pub mod shape;
+pub mod units;

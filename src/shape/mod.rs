@@ -1,0 +1,288 @@
+//! Shape families: dimensionless shape parameters and a size → curvature along arc length.
+//!
+//! A shape family owns only the *curvature* of the heartline as a function of arc length, κ(s),
+//! as a [`CurvatureProfile`] made of polynomial pieces. It knows nothing of positions, speeds or
+//! loads; the geometry stage integrates the profile into a centreline.
+//!
+//! Every family is one file implementing [`ShapeFamily`]. Its size is always the heartline radius
+//! of curvature at the top of the loop, `top_radius_m`, so that the optimiser can treat all
+//! families alike: for fixed shape parameters the loop is geometrically similar at every size.
+//!
+//! ```
+//! use loopwright::shape::{family, CurvatureProfile};
+//! use loopwright::brief::ShapeKind;
+//! let circle = family(ShapeKind::Circle);
+//! let profile = circle.curvature(&[], 10.0).unwrap();
+//! // A full circle of radius 10 m turns through 2π over 2π·10 m.
+//! assert!((profile.length_m() - 2.0 * std::f64::consts::PI * 10.0).abs() < 1e-9);
+//! assert!((profile.pitch_rad(profile.length_m()) - 2.0 * std::f64::consts::PI).abs() < 1e-12);
+//! ```
+
+mod circle;
+mod clothoid;
+mod spline;
+
+pub use circle::Circle;
+pub use clothoid::Clothoid;
+pub use spline::Spline;
+
+use crate::brief::ShapeKind;
+
+/// Why a family could not produce a curvature profile for the given parameters.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{family} shape: {message}")]
+pub struct ShapeError {
+    pub family: &'static str,
+    pub message: String,
+}
+
+/// What kind of piece a curvature segment is; the geometry stage integrates each kind its own way.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SegmentKind {
+    /// κ = 0.
+    Straight,
+    /// κ constant.
+    Arc,
+    /// κ linear in arc length (an Euler spiral).
+    Clothoid,
+    /// κ a cubic polynomial of arc length.
+    Cubic,
+}
+
+/// One piece of the profile: κ(t) = c0 + c1·t + c2·t² + c3·t³ for local arc length t in [0, length].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CurvatureSegment {
+    pub kind: SegmentKind,
+    pub length_m: f64,
+    /// Polynomial coefficients in units 1/m, 1/m², 1/m³, 1/m⁴.
+    pub coeffs: [f64; 4],
+}
+
+impl CurvatureSegment {
+    pub fn straight(length_m: f64) -> Self {
+        Self { kind: SegmentKind::Straight, length_m, coeffs: [0.0; 4] }
+    }
+    pub fn arc(length_m: f64, curvature_1_m: f64) -> Self {
+        Self { kind: SegmentKind::Arc, length_m, coeffs: [curvature_1_m, 0.0, 0.0, 0.0] }
+    }
+    /// Curvature going linearly from `start` to `end` over `length_m`.
+    pub fn clothoid(length_m: f64, start_1_m: f64, end_1_m: f64) -> Self {
+        let slope = (end_1_m - start_1_m) / length_m;
+        Self { kind: SegmentKind::Clothoid, length_m, coeffs: [start_1_m, slope, 0.0, 0.0] }
+    }
+    pub fn cubic(length_m: f64, coeffs: [f64; 4]) -> Self {
+        Self { kind: SegmentKind::Cubic, length_m, coeffs }
+    }
+    /// κ at local arc length `t`.
+    pub fn curvature_1_m(&self, t: f64) -> f64 {
+        let c = &self.coeffs;
+        c[0] + t * (c[1] + t * (c[2] + t * c[3]))
+    }
+    /// dκ/ds at local arc length `t`.
+    pub fn slope_1_m2(&self, t: f64) -> f64 {
+        let c = &self.coeffs;
+        c[1] + t * (2.0 * c[2] + t * 3.0 * c[3])
+    }
+    /// ∫₀ᵗ κ dτ, the pitch turned within this segment (exact for the polynomial).
+    pub fn turn_rad(&self, t: f64) -> f64 {
+        let c = &self.coeffs;
+        t * (c[0] + t * (c[1] / 2.0 + t * (c[2] / 3.0 + t * c[3] / 4.0)))
+    }
+}
+
+/// The heartline curvature along arc length, from the start of the lead-in to the end of the lead-out.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CurvatureProfile {
+    segments: Vec<CurvatureSegment>,
+    /// Arc length at the start of each segment.
+    starts_m: Vec<f64>,
+    /// Pitch at the start of each segment.
+    pitch_starts_rad: Vec<f64>,
+    /// Indices of the first and last segment that belong to the loop proper (not lead track).
+    loop_range: (usize, usize),
+}
+
+impl CurvatureProfile {
+    /// Build a profile from segments; `loop_range` marks the loop proper (inclusive indices).
+    pub fn new(segments: Vec<CurvatureSegment>, loop_range: (usize, usize)) -> Self {
+        let mut starts_m = Vec::with_capacity(segments.len());
+        let mut pitch_starts_rad = Vec::with_capacity(segments.len());
+        let (mut s, mut theta) = (0.0, 0.0);
+        for seg in &segments {
+            starts_m.push(s);
+            pitch_starts_rad.push(theta);
+            s += seg.length_m;
+            theta += seg.turn_rad(seg.length_m);
+        }
+        Self { segments, starts_m, pitch_starts_rad, loop_range }
+    }
+
+    /// Add level lead track of `lead_m` before and after the loop.
+    pub fn with_leads(segments: Vec<CurvatureSegment>, lead_m: f64) -> Self {
+        if lead_m <= 0.0 {
+            let n = segments.len();
+            return Self::new(segments, (0, n.saturating_sub(1)));
+        }
+        let n = segments.len();
+        let mut all = Vec::with_capacity(n + 2);
+        all.push(CurvatureSegment::straight(lead_m));
+        all.extend(segments);
+        all.push(CurvatureSegment::straight(lead_m));
+        Self::new(all, (1, n))
+    }
+
+    pub fn segments(&self) -> &[CurvatureSegment] {
+        &self.segments
+    }
+    /// Arc length where segment `i` starts.
+    pub fn segment_start_m(&self, i: usize) -> f64 {
+        self.starts_m[i]
+    }
+    /// Pitch where segment `i` starts.
+    pub fn segment_pitch_rad(&self, i: usize) -> f64 {
+        self.pitch_starts_rad[i]
+    }
+    /// Total length including lead track.
+    pub fn length_m(&self) -> f64 {
+        match self.segments.last() {
+            Some(last) => self.starts_m[self.starts_m.len() - 1] + last.length_m,
+            None => 0.0,
+        }
+    }
+    /// Arc-length interval of the loop proper.
+    pub fn loop_span_m(&self) -> (f64, f64) {
+        let (a, b) = self.loop_range;
+        (self.starts_m[a], self.starts_m[b] + self.segments[b].length_m)
+    }
+
+    fn locate(&self, s_m: f64) -> (usize, f64) {
+        let i = match self.starts_m.binary_search_by(|x| x.total_cmp(&s_m)) {
+            Ok(i) => i,
+            Err(0) => 0,
+            Err(i) => i - 1,
+        };
+        let i = i.min(self.segments.len() - 1);
+        (i, (s_m - self.starts_m[i]).clamp(0.0, self.segments[i].length_m))
+    }
+    /// κ at arc length `s_m` (right-hand value at a segment boundary).
+    pub fn curvature_1_m(&self, s_m: f64) -> f64 {
+        let (i, t) = self.locate(s_m);
+        self.segments[i].curvature_1_m(t)
+    }
+    /// Pitch (angle of the tangent above the entry direction) at `s_m`.
+    pub fn pitch_rad(&self, s_m: f64) -> f64 {
+        let (i, t) = self.locate(s_m);
+        self.pitch_starts_rad[i] + self.segments[i].turn_rad(t)
+    }
+    /// The largest |κ| anywhere, 1/m.
+    pub fn max_curvature_1_m(&self) -> f64 {
+        self.segments
+            .iter()
+            .map(|seg| {
+                // A cubic's extremes lie at the ends or where its slope vanishes.
+                let mut m = seg.curvature_1_m(0.0).abs().max(seg.curvature_1_m(seg.length_m).abs());
+                let [_, c1, c2, c3] = seg.coeffs;
+                let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
+                let mut roots = Vec::new();
+                if a.abs() > 1e-300 {
+                    let disc = b * b - 4.0 * a * c;
+                    if disc >= 0.0 {
+                        roots.push((-b + disc.sqrt()) / (2.0 * a));
+                        roots.push((-b - disc.sqrt()) / (2.0 * a));
+                    }
+                } else if b.abs() > 1e-300 {
+                    roots.push(-c / b);
+                }
+                for r in roots {
+                    if r > 0.0 && r < seg.length_m {
+                        m = m.max(seg.curvature_1_m(r).abs());
+                    }
+                }
+                m
+            })
+            .fold(0.0, f64::max)
+    }
+    /// The smallest radius of curvature anywhere, m (infinite for straight track).
+    pub fn min_radius_m(&self) -> f64 {
+        1.0 / self.max_curvature_1_m()
+    }
+}
+
+/// A family of loop shapes.
+///
+/// Implementors turn dimensionless shape parameters and a size (the heartline radius at the top)
+/// into a curvature profile of the loop proper that turns through exactly 2π and is symmetric
+/// about its midpoint, so the loop leaves level at entry height.
+pub trait ShapeFamily: Send + Sync {
+    /// Which family this is.
+    fn kind(&self) -> ShapeKind;
+    /// Names of the dimensionless shape parameters, for reports.
+    fn shape_labels(&self) -> &'static [&'static str];
+    /// Bounds of each shape parameter.
+    fn shape_bounds(&self) -> &'static [(f64, f64)];
+    /// A sensible starting shape for the optimiser.
+    fn default_shape(&self) -> Vec<f64>;
+    /// The loop proper (without lead track) for these parameters at this top radius.
+    fn loop_segments(&self, shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError>;
+    /// The whole profile with `lead_m` of level track before and after.
+    fn curvature(&self, shape: &[f64], top_radius_m: f64) -> Result<CurvatureProfile, ShapeError> {
+        self.curvature_with_leads(shape, top_radius_m, 0.0)
+    }
+    /// As [`ShapeFamily::curvature`], with lead track.
+    fn curvature_with_leads(
+        &self,
+        shape: &[f64],
+        top_radius_m: f64,
+        lead_m: f64,
+    ) -> Result<CurvatureProfile, ShapeError> {
+        let name = self.kind().name();
+        if shape.len() != self.shape_bounds().len() {
+            return Err(ShapeError {
+                family: name,
+                message: format!("expects {} shape parameters, got {}", self.shape_bounds().len(), shape.len()),
+            });
+        }
+        for ((v, (lo, hi)), label) in shape.iter().zip(self.shape_bounds()).zip(self.shape_labels()) {
+            if !v.is_finite() || v < lo || v > hi {
+                return Err(ShapeError { family: name, message: format!("{label} = {v} is outside {lo}..{hi}") });
+            }
+        }
+        if !(top_radius_m.is_finite() && top_radius_m > 0.0) {
+            return Err(ShapeError { family: name, message: format!("top radius {top_radius_m} m must be positive") });
+        }
+        Ok(CurvatureProfile::with_leads(self.loop_segments(shape, top_radius_m)?, lead_m))
+    }
+}
+
+/// The family implementing `kind`.
+pub fn family(kind: ShapeKind) -> Box<dyn ShapeFamily> {
+    match kind {
+        ShapeKind::Circle => Box::new(Circle),
+        ShapeKind::Clothoid => Box::new(Clothoid),
+        ShapeKind::Spline => Box::new(Spline),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::f64::consts::PI;
+
+    // Every family must turn exactly 2π and be symmetric (κ(s) = κ(L − s)): the loop-closure
+    // condition for a planar loop that leaves level at entry height (elementary geometry).
+    #[test]
+    fn every_family_turns_a_full_circle_symmetrically() {
+        for kind in ShapeKind::ALL {
+            let f = family(kind);
+            let p = f.curvature(&f.default_shape(), 7.5).unwrap();
+            let l = p.length_m();
+            assert!((p.pitch_rad(l) - 2.0 * PI).abs() < 1e-12, "{kind}");
+            for i in 0..=50 {
+                let s = l * i as f64 / 50.0 * 0.999 + 1e-6;
+                assert!((p.curvature_1_m(s) - p.curvature_1_m(l - s)).abs() < 1e-9, "{kind} at {s}");
+            }
+            // The top (mid-length) has the requested radius.
+            assert!((p.curvature_1_m(l / 2.0) - 1.0 / 7.5).abs() < 1e-12, "{kind}");
+        }
+    }
+}

@@ -1,0 +1,148 @@
+//! The variable-radius loop: curvature a smooth cubic spline of arc length.
+//!
+//! Over the first half of the loop, u = s/L in [0, ½], the curvature relative to the top is a
+//! cubic spline through (0, 0), (⅛, a), (¼, b), (⅜, c), (½, 1): natural (zero second derivative)
+//! at entry, zero slope at the top. The second half mirrors the first, so the loop is symmetric and,
+//! because the spline's slope is zero at the top, curvature is C² there. κ = f(u)/R, and the length
+//! follows from the 2π turn: L = 2πR / ∫₀¹ f du. Shape parameters `a, b, c` are the control values.
+
+use super::{CurvatureSegment, ShapeError, ShapeFamily};
+use crate::brief::ShapeKind;
+use std::f64::consts::PI;
+
+/// Variable-radius spline loop.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Spline;
+
+
+/// Cubic spline through `y` at `KNOTS`: natural at the first knot, zero slope at the last.
+/// Returns the per-interval coefficients in the local variable (u − uᵢ).
+fn half_spline(y: [f64; 5]) -> [[f64; 4]; 4] {
+    let h = 0.125;
+    // Unknown second derivatives M0..M4 with M0 = 0 (natural). Interior rows are the standard
+    // continuity equations h·M(i−1) + 4h·M(i) + h·M(i+1) = 6(y(i+1) − 2y(i) + y(i−1))/h; the last row
+    // imposes zero end slope: (y4 − y3)/h + h·(2·M4 + M3)/6 = 0.
+    let mut a = [[0.0f64; 4]; 4];
+    let mut rhs = [0.0f64; 4];
+    for i in 1..=3 {
+        let r = i - 1;
+        if i >= 2 {
+            a[r][i - 2] = h;
+        }
+        a[r][i - 1] = 4.0 * h;
+        a[r][i] = h;
+        rhs[r] = 6.0 * (y[i + 1] - 2.0 * y[i] + y[i - 1]) / h;
+    }
+    a[3][2] = h / 6.0;
+    a[3][3] = 2.0 * h / 6.0;
+    rhs[3] = -(y[4] - y[3]) / h;
+    let m = solve4(a, rhs);
+    let mm = [0.0, m[0], m[1], m[2], m[3]];
+    let mut out = [[0.0; 4]; 4];
+    for i in 0..4 {
+        let b = (y[i + 1] - y[i]) / h - h * (2.0 * mm[i] + mm[i + 1]) / 6.0;
+        out[i] = [y[i], b, mm[i] / 2.0, (mm[i + 1] - mm[i]) / (6.0 * h)];
+    }
+    out
+}
+
+/// Gaussian elimination with partial pivoting on a 4×4 system (well conditioned here).
+fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> [f64; 4] {
+    for col in 0..4 {
+        let piv = (col..4).max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs())).unwrap_or(col);
+        a.swap(col, piv);
+        b.swap(col, piv);
+        for row in col + 1..4 {
+            let f = a[row][col] / a[col][col];
+            for k in col..4 {
+                a[row][k] -= f * a[col][k];
+            }
+            b[row] -= f * b[col];
+        }
+    }
+    let mut x = [0.0; 4];
+    for row in (0..4).rev() {
+        let s: f64 = (row + 1..4).map(|k| a[row][k] * x[k]).sum();
+        x[row] = (b[row] - s) / a[row][row];
+    }
+    x
+}
+
+impl ShapeFamily for Spline {
+    fn kind(&self) -> ShapeKind {
+        ShapeKind::Spline
+    }
+    fn shape_labels(&self) -> &'static [&'static str] {
+        &["control_a", "control_b", "control_c"]
+    }
+    fn shape_bounds(&self) -> &'static [(f64, f64)] {
+        &[(0.02, 1.5), (0.05, 1.5), (0.1, 1.5)]
+    }
+    fn default_shape(&self) -> Vec<f64> {
+        vec![0.35, 0.7, 0.95]
+    }
+    fn loop_segments(&self, shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError> {
+        let y = [0.0, shape[0], shape[1], shape[2], 1.0];
+        let pieces = half_spline(y);
+        // ∫ over the half loop in u, exact for cubics; the whole loop doubles it.
+        let h = 0.125;
+        let half_area: f64 = pieces.iter().map(|c| h * (c[0] + h * (c[1] / 2.0 + h * (c[2] / 3.0 + h * c[3] / 4.0)))).sum();
+        // Curvature must stay non-negative so the loop turns one way; sample densely to check.
+        for c in &pieces {
+            for k in 0..=40 {
+                let t = h * k as f64 / 40.0;
+                let v = c[0] + t * (c[1] + t * (c[2] + t * c[3]));
+                if v < -1e-12 {
+                    return Err(ShapeError {
+                        family: "spline",
+                        message: format!("control values {shape:?} make the curvature negative"),
+                    });
+                }
+            }
+        }
+        let area = 2.0 * half_area;
+        let length_m = 2.0 * PI * top_radius_m / area;
+        let r = top_radius_m;
+        // Convert each piece from u to arc length: u = s/L, so the k-th coefficient scales by 1/Lᵏ.
+        let scale = |c: [f64; 4]| [c[0] / r, c[1] / (r * length_m), c[2] / (r * length_m.powi(2)), c[3] / (r * length_m.powi(3))];
+        let seg_m = h * length_m;
+        let mut segs: Vec<CurvatureSegment> = pieces.iter().map(|&c| CurvatureSegment::cubic(seg_m, scale(c))).collect();
+        // Mirror: piece i of the second half is piece (3 − i) run backwards. For p(t) on [0, h]
+        // run backwards, q(t) = p(h − t); expand the polynomial in t.
+        for c in pieces.iter().rev() {
+            let p = |t: f64| c[0] + t * (c[1] + t * (c[2] + t * c[3]));
+            let d1 = |t: f64| c[1] + t * (2.0 * c[2] + t * 3.0 * c[3]);
+            let d2 = |t: f64| 2.0 * c[2] + 6.0 * c[3] * t;
+            let q = [p(h), -d1(h), d2(h) / 2.0, -c[3]];
+            segs.push(CurvatureSegment::cubic(seg_m, scale(q)));
+        }
+        Ok(segs)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // The spline must interpolate its control values, be natural at entry and flat at the top:
+    // the defining conditions of a cubic spline (de Boor, "A Practical Guide to Splines", ch. IV).
+    #[test]
+    fn spline_meets_its_defining_conditions() {
+        let y = [0.0, 0.3, 0.6, 0.9, 1.0];
+        let p = half_spline(y);
+        let h = 0.125;
+        let ev = |c: [f64; 4], t: f64| c[0] + t * (c[1] + t * (c[2] + t * c[3]));
+        let d1 = |c: [f64; 4], t: f64| c[1] + t * (2.0 * c[2] + t * 3.0 * c[3]);
+        let d2 = |c: [f64; 4], t: f64| 2.0 * c[2] + 6.0 * c[3] * t;
+        for i in 0..4 {
+            assert!((ev(p[i], 0.0) - y[i]).abs() < 1e-12);
+            assert!((ev(p[i], h) - y[i + 1]).abs() < 1e-12);
+        }
+        for i in 0..3 {
+            assert!((d1(p[i], h) - d1(p[i + 1], 0.0)).abs() < 1e-9);
+            assert!((d2(p[i], h) - d2(p[i + 1], 0.0)).abs() < 1e-9);
+        }
+        assert!(d2(p[0], 0.0).abs() < 1e-12);
+        assert!(d1(p[3], h).abs() < 1e-9);
+    }
+}
