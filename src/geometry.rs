@@ -166,9 +166,19 @@ impl Centreline {
                 // Continuous curvature: the previous segment's last station serves as this one's first.
                 Some(_) => 1,
             };
+            // Cubic pieces are integrated station to station (quadrature from the segment start
+            // each time would cost O(n²)); the others have closed forms from the segment start.
+            let (mut acc, mut t_prev) = ((0.0, 0.0), 0.0);
             for j in first..=n {
                 let t = seg.length_m * j as f64 / n as f64;
-                let (dx, dz) = segment_displacement(seg, theta0, t);
+                let (dx, dz) = if seg.kind == SegmentKind::Cubic {
+                    let (ddx, ddz) = quadrature_displacement(seg, theta0, t_prev, t);
+                    acc = (acc.0 + ddx, acc.1 + ddz);
+                    t_prev = t;
+                    acc
+                } else {
+                    segment_displacement(seg, theta0, t)
+                };
                 let s_m = s0 + t;
                 let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
                 stations.push(planar_station(
@@ -182,7 +192,7 @@ impl Centreline {
                     in_loop,
                 ));
             }
-            let (dx, dz) = segment_displacement(seg, theta0, seg.length_m);
+            let (dx, dz) = if seg.kind == SegmentKind::Cubic { acc } else { segment_displacement(seg, theta0, seg.length_m) };
             x += dx;
             z += dz;
             prev_end_curv = Some(seg.curvature_1_m(seg.length_m));

@@ -1,13 +1,19 @@
 //! loopwright: vertical-loop geometry for roller-coaster concept studies.
 //!
 //! Data flows one way, one module per stage:
-//! [`brief`] → [`shape`] → [`geometry`] → [`dynamics`] → [`checks`] → [`optimiser`] → [`export`].
+//! [`brief`] → [`shape`] → [`geometry`] → [`dynamics`] → [`checks`] → [`optimiser`] → [`export`]
+//! (with [`report`] for the terminal). No stage uses a later one.
 //!
 //! CAUTION: results are for concept studies only. Final design must follow the governing standard
 //! (e.g. ASTM F2291, EN 13814), local codes and a licensed engineer's review. Default limits are
 //! illustrative.
 
 pub mod brief;
+pub mod checks;
+pub mod dynamics;
+pub mod export;
 pub mod geometry;
+pub mod optimiser;
+pub mod report;
 pub mod shape;
 pub mod units;

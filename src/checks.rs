@@ -1,0 +1,157 @@
+//! Checks: the key figures of a ride and whether they meet the brief's limits.
+//!
+//! [`summarise`] reduces a centreline and its ride to the figures an engineer quotes (height,
+//! length, peak and top loads, onset); [`check`] compares them with [`Limits`] and gives a
+//! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
+//!
+//! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
+
+use serde::Serialize;
+
+use crate::brief::Brief;
+use crate::dynamics::Ride;
+use crate::geometry::Centreline;
+
+/// The limits a design must meet.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Limits {
+    pub max_g: f64,
+    pub min_top_g: f64,
+    pub max_onset_g_s: Option<f64>,
+    pub max_height_m: Option<f64>,
+    pub min_radius_m: f64,
+}
+
+impl From<&Brief> for Limits {
+    fn from(b: &Brief) -> Self {
+        Limits {
+            max_g: b.max_g,
+            min_top_g: b.min_top_g,
+            max_onset_g_s: b.max_onset_g_s,
+            max_height_m: b.max_height_m,
+            min_radius_m: b.min_radius_m,
+        }
+    }
+}
+
+/// Key figures of one design.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Summary {
+    /// Heartline: top above entry, m.
+    pub loop_height_m: f64,
+    /// Rail centreline: highest point above rail at entry, m.
+    pub rail_height_m: f64,
+    /// Heartline arc length of the loop proper, m.
+    pub path_length_m: f64,
+    /// Horizontal distance from loop entry to loop exit along X, heartline, m.
+    pub footprint_length_m: f64,
+    pub min_radius_m: f64,
+    pub peak_normal_g: f64,
+    pub peak_normal_s_m: f64,
+    pub min_normal_g: f64,
+    pub top_normal_g: f64,
+    pub top_speed_m_s: f64,
+    pub top_s_m: f64,
+    /// Largest |dn/dt| on the smooth parts of the path, g/s.
+    pub peak_onset_g_s: f64,
+    /// Largest jump of normal load at a curvature step, g (0 if the curvature is continuous).
+    pub max_load_step_g: f64,
+    pub peak_lateral_g: f64,
+    pub min_tangential_g: f64,
+    pub exit_speed_m_s: f64,
+    pub time_in_loop_s: f64,
+}
+
+/// Reduce a ride to its key figures.
+pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
+    let st = &path.stations;
+    let pts = &ride.points;
+    let top = path.top_index();
+    let in_loop: Vec<usize> = (0..st.len()).filter(|&i| st[i].in_loop).collect();
+    let (first, last) = (in_loop[0], in_loop[in_loop.len() - 1]);
+    let peak = (0..pts.len()).max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g)).unwrap_or(0);
+    let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| (0..pts.len()).map(f).fold(init, pick);
+    Summary {
+        loop_height_m: path.loop_height_m(),
+        rail_height_m: path.rail_height_m(),
+        path_length_m: path.loop_length_m(),
+        footprint_length_m: st[last].heartline_m.x - st[first].heartline_m.x,
+        min_radius_m: path.min_radius_m(),
+        peak_normal_g: pts[peak].normal_g,
+        peak_normal_s_m: pts[peak].s_m,
+        min_normal_g: fold(&|i| pts[i].normal_g, f64::MAX, f64::min),
+        top_normal_g: pts[top].normal_g,
+        top_speed_m_s: pts[top].speed_m_s,
+        top_s_m: pts[top].s_m,
+        peak_onset_g_s: fold(&|i| pts[i].onset_g_s.abs(), 0.0, f64::max),
+        max_load_step_g: ride.steps.iter().map(|s| s.jump_g.abs()).fold(0.0, f64::max),
+        peak_lateral_g: fold(&|i| pts[i].lateral_g.abs(), 0.0, f64::max),
+        min_tangential_g: fold(&|i| pts[i].tangential_g, f64::MAX, f64::min),
+        exit_speed_m_s: pts[last].speed_m_s,
+        time_in_loop_s: pts[last].time_s - pts[first].time_s,
+    }
+}
+
+/// Which limit a check line is about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LimitKind {
+    MaxG,
+    MinTopG,
+    MaxOnset,
+    MaxHeight,
+    MinRadius,
+}
+
+/// One limit compared with the design's value.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CheckLine {
+    pub limit: LimitKind,
+    pub label: String,
+    /// The design's value (infinite onset at a curvature step is written as null in JSON).
+    pub value: f64,
+    pub limit_value: f64,
+    pub unit: &'static str,
+    /// Positive inside the limit, negative outside.
+    pub margin: f64,
+    pub pass: bool,
+}
+
+/// All checks of one design.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Verdict {
+    pub lines: Vec<CheckLine>,
+    pub pass: bool,
+}
+
+impl Verdict {
+    /// The failing lines.
+    pub fn failures(&self) -> impl Iterator<Item = &CheckLine> {
+        self.lines.iter().filter(|l| !l.pass)
+    }
+}
+
+/// The design's onset figure for the onset limit: unbounded if the load steps anywhere.
+pub fn onset_for_limit(s: &Summary) -> f64 {
+    if s.max_load_step_g > 1e-9 { f64::INFINITY } else { s.peak_onset_g_s }
+}
+
+/// Compare a summary with limits.
+pub fn check(s: &Summary, limits: &Limits) -> Verdict {
+    let mut lines = Vec::new();
+    let mut line = |limit, label: &str, value: f64, limit_value: f64, unit, upper: bool| {
+        let margin = if upper { limit_value - value } else { value - limit_value };
+        lines.push(CheckLine { limit, label: label.into(), value, limit_value, unit, margin, pass: margin >= 0.0 });
+    };
+    line(LimitKind::MaxG, "peak normal load", s.peak_normal_g, limits.max_g, "g", true);
+    line(LimitKind::MinTopG, "normal load at the top", s.top_normal_g, limits.min_top_g, "g", false);
+    if let Some(max) = limits.max_onset_g_s {
+        line(LimitKind::MaxOnset, "peak onset", onset_for_limit(s), max, "g/s", true);
+    }
+    if let Some(max) = limits.max_height_m {
+        line(LimitKind::MaxHeight, "loop height (heartline)", s.loop_height_m, max, "m", true);
+    }
+    line(LimitKind::MinRadius, "smallest radius (heartline)", s.min_radius_m, limits.min_radius_m, "m", false);
+    let pass = lines.iter().all(|l| l.pass);
+    Verdict { lines, pass }
+}

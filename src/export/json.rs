@@ -1,0 +1,80 @@
+//! The JSON report: key figures, checks, the brief echoed and the caution.
+
+use serde::Serialize;
+
+use super::ExportError;
+use crate::brief::Brief;
+use crate::checks::CheckLine;
+use crate::dynamics::LoadStep;
+use crate::optimiser::Design;
+use crate::report::CAUTION;
+
+/// The report written as `<name>.json`.
+#[derive(Debug, Serialize)]
+pub struct Report<'a> {
+    pub caution: &'static str,
+    pub shape: &'static str,
+    pub feasible: bool,
+    pub entry_speed_m_s: f64,
+    pub loop_height_m: f64,
+    pub rail_height_m: f64,
+    pub path_length_m: f64,
+    pub footprint_length_m: f64,
+    pub top_radius_m: f64,
+    pub min_radius_m: f64,
+    pub peak_normal_g: f64,
+    pub peak_normal_s_m: f64,
+    pub min_normal_g: f64,
+    pub top_normal_g: f64,
+    pub top_speed_m_s: f64,
+    pub peak_onset_g_s: f64,
+    pub max_load_step_g: f64,
+    pub load_steps: &'a [LoadStep],
+    pub exit_speed_m_s: f64,
+    pub time_in_loop_s: f64,
+    pub shape_parameters: Vec<(&'static str, f64)>,
+    pub checks: &'a [CheckLine],
+    pub verified_at_spacing_m: f64,
+    pub evaluations: usize,
+    pub brief: &'a Brief,
+}
+
+/// Build the report of a design.
+pub fn report(d: &Design) -> Report<'_> {
+    let s = &d.best.summary;
+    Report {
+        caution: CAUTION,
+        shape: d.best.kind.name(),
+        feasible: d.verification.verdict.pass,
+        entry_speed_m_s: d.brief.entry_speed_m_s,
+        loop_height_m: s.loop_height_m,
+        rail_height_m: s.rail_height_m,
+        path_length_m: s.path_length_m,
+        footprint_length_m: s.footprint_length_m,
+        top_radius_m: d.best.top_radius_m,
+        min_radius_m: s.min_radius_m,
+        peak_normal_g: s.peak_normal_g,
+        peak_normal_s_m: s.peak_normal_s_m,
+        min_normal_g: s.min_normal_g,
+        top_normal_g: s.top_normal_g,
+        top_speed_m_s: s.top_speed_m_s,
+        peak_onset_g_s: s.peak_onset_g_s,
+        max_load_step_g: s.max_load_step_g,
+        load_steps: &d.best.ride.steps,
+        exit_speed_m_s: s.exit_speed_m_s,
+        time_in_loop_s: s.time_in_loop_s,
+        shape_parameters: d.shape_labels.iter().copied().zip(d.best.shape.iter().copied()).collect(),
+        checks: &d.verification.verdict.lines,
+        verified_at_spacing_m: d.verification.spacing_m,
+        evaluations: d.evaluations,
+        brief: &d.brief,
+    }
+}
+
+/// Pretty-printed JSON bytes of the report.
+pub fn report_json(d: &Design) -> Result<Vec<u8>, ExportError> {
+    let mut v = serde_json::to_vec_pretty(&report(d))
+        .map_err(|e| ExportError::Encode { what: "JSON report", message: e.to_string() })?;
+    v.push(b'\n');
+    Ok(v)
+}
