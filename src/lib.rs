@@ -10,6 +10,7 @@
 
 pub mod brief;
 pub mod checks;
+pub mod cli;
 pub mod dynamics;
 pub mod export;
 pub mod geometry;

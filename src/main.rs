@@ -1,3 +1,5 @@
+//! The `loopwright` binary: a thin shell over [`loopwright::cli`].
+
 fn main() {
-    println!("Hello, world!");
+    std::process::exit(loopwright::cli::main_with_args(std::env::args_os()));
 }

@@ -1,0 +1,247 @@
+//! Command line: parse arguments, run a command, map failures to exit codes.
+//!
+//! The binary in `main.rs` only calls [`main_with_args`]; everything else lives here so that tests
+//! can drive the commands in-process. Exit codes: 0 success, 2 usage error (bad flags, bad brief
+//! file or field), 3 infeasible brief (no loop meets the limits), 4 input/output error.
+
+use clap::{Args, Parser, Subcommand};
+use std::path::{Path, PathBuf};
+
+use crate::brief::{Brief, BriefError, BriefInput, DEMO_BRIEF_TOML, SpeedText};
+use crate::export::{ExportError, write_design};
+use crate::optimiser::{Infeasible, design};
+use crate::report::{infeasible_message, terminal_summary};
+
+/// Exit code: success.
+pub const EXIT_OK: i32 = 0;
+/// Exit code: usage error — bad flags, a brief that does not parse or a field out of range.
+pub const EXIT_USAGE: i32 = 2;
+/// Exit code: the brief is valid but no loop meets its limits.
+pub const EXIT_INFEASIBLE: i32 = 3;
+/// Exit code: a file could not be read or written.
+pub const EXIT_IO: i32 = 4;
+
+#[derive(Debug, Parser)]
+#[command(name = "loopwright", version, about = "Vertical-loop geometry for roller-coaster concept studies.")]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Design one loop for a brief and write DXF, SVG, CSV and JSON.
+    Design(DesignArgs),
+    /// Print the built-in demo brief (TOML) to start your own from.
+    DemoBrief,
+}
+
+/// Brief fields as flags; each overrides the same field of a brief file.
+#[derive(Debug, Clone, Default, Args)]
+pub struct BriefArgs {
+    /// Brief file (TOML). Without it, the built-in demo brief is used.
+    pub brief: Option<PathBuf>,
+    /// Entry speed at the bottom of the loop: a number in m/s, or with a unit: 25m/s, 90km/h, 56mph.
+    #[arg(long, value_name = "SPEED", allow_hyphen_values = true)]
+    pub entry_speed: Option<String>,
+    /// Largest normal load allowed anywhere, g.
+    #[arg(long, value_name = "G", allow_hyphen_values = true)]
+    pub max_g: Option<f64>,
+    /// Smallest normal load allowed at the top of the loop, g.
+    #[arg(long, value_name = "G", allow_hyphen_values = true)]
+    pub min_top_g: Option<f64>,
+    /// Largest rate of change of normal load, g/s.
+    #[arg(long, value_name = "G_PER_S", allow_hyphen_values = true)]
+    pub max_onset: Option<f64>,
+    /// Largest loop height (heartline), m.
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub max_height: Option<f64>,
+    /// Smallest heartline radius of curvature anywhere, m (default 4 m, illustrative).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub min_radius: Option<f64>,
+    /// Ask for a loop of this heartline height (lowest peak g) instead of the tallest loop.
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub height: Option<f64>,
+    /// Shape family: circle, clothoid or spline.
+    #[arg(long, value_name = "FAMILY")]
+    pub shape: Option<String>,
+    /// Heartline height above the rail centreline, m (default 1.1 m).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub heartline_height: Option<f64>,
+    /// Rolling resistance coefficient μ (0 for none).
+    #[arg(long, value_name = "MU", allow_hyphen_values = true)]
+    pub rolling_resistance: Option<f64>,
+    /// Drag area Cd·A of the train, m² (0 for none).
+    #[arg(long, value_name = "M2", allow_hyphen_values = true)]
+    pub drag_area: Option<f64>,
+    /// Train mass, kg.
+    #[arg(long, value_name = "KG", allow_hyphen_values = true)]
+    pub mass: Option<f64>,
+    /// Air density, kg/m³ (default 1.225, ISA sea level).
+    #[arg(long, value_name = "KG_M3", allow_hyphen_values = true)]
+    pub air_density: Option<f64>,
+    /// Level track drawn before and after the loop, m.
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub lead_length: Option<f64>,
+    /// Heartline sample spacing of the reported design, m.
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub spacing: Option<f64>,
+    /// File stem of the outputs (default: the brief's name).
+    #[arg(long)]
+    pub name: Option<String>,
+}
+
+#[derive(Debug, Clone, Args)]
+pub struct DesignArgs {
+    #[command(flatten)]
+    pub brief: BriefArgs,
+    /// Folder for the outputs (created if missing).
+    #[arg(long, default_value = "loopwright-out")]
+    pub out: PathBuf,
+    /// Print nothing but errors.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// A failure with the exit code it maps to.
+#[derive(Debug, thiserror::Error)]
+pub enum CliError {
+    #[error("{0}")]
+    Usage(String),
+    #[error("{0}")]
+    Infeasible(Box<Infeasible>),
+    #[error("{0}")]
+    Io(String),
+}
+
+impl CliError {
+    pub fn exit_code(&self) -> i32 {
+        match self {
+            CliError::Usage(_) => EXIT_USAGE,
+            CliError::Infeasible(_) => EXIT_INFEASIBLE,
+            CliError::Io(_) => EXIT_IO,
+        }
+    }
+}
+
+impl From<BriefError> for CliError {
+    fn from(e: BriefError) -> Self {
+        CliError::Usage(format!("{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"))
+    }
+}
+
+impl From<ExportError> for CliError {
+    fn from(e: ExportError) -> Self {
+        CliError::Io(format!("{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"))
+    }
+}
+
+/// Largest brief file we read; a brief is a few hundred bytes.
+const MAX_BRIEF_BYTES: u64 = 1 << 20;
+
+/// Read a brief file, or the demo brief when none is given.
+pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
+    let text = match path {
+        None => DEMO_BRIEF_TOML.to_string(),
+        Some(p) => {
+            let meta = std::fs::metadata(p)
+                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?;
+            if meta.len() > MAX_BRIEF_BYTES {
+                return Err(CliError::Usage(format!(
+                    "brief {} is {} bytes; a brief is a small TOML file (at most {MAX_BRIEF_BYTES} bytes)",
+                    p.display(),
+                    meta.len()
+                )));
+            }
+            std::fs::read_to_string(p).map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
+        }
+    };
+    BriefInput::from_toml(&text).map_err(|e| {
+        let what = path.map_or("the demo brief".to_string(), |p| p.display().to_string());
+        CliError::Usage(format!("{what}: {e}"))
+    })
+}
+
+impl BriefArgs {
+    /// The flags as a partial brief.
+    pub fn as_input(&self) -> BriefInput {
+        BriefInput {
+            name: self.name.clone(),
+            title: None,
+            shape: self.shape.clone(),
+            entry_speed: self.entry_speed.clone().map(SpeedText::Text),
+            max_g: self.max_g,
+            min_top_g: self.min_top_g,
+            max_onset_g_s: self.max_onset,
+            max_height_m: self.max_height,
+            min_radius_m: self.min_radius,
+            height_m: self.height,
+            heartline_height_m: self.heartline_height,
+            rolling_resistance: self.rolling_resistance,
+            drag_area_m2: self.drag_area,
+            mass_kg: self.mass,
+            air_density_kg_m3: self.air_density,
+            lead_length_m: self.lead_length,
+            spacing_m: self.spacing,
+        }
+    }
+
+    /// File (or demo) overlaid with flags, resolved and checked.
+    pub fn resolve(&self) -> Result<Brief, CliError> {
+        let file = read_brief_file(self.brief.as_deref())?;
+        Ok(file.overlay(self.as_input()).resolve()?)
+    }
+}
+
+/// Run `design`: returns the text for standard output.
+pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
+    let brief = args.brief.resolve()?;
+    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    let written = write_design(&d, &args.out)?;
+    if args.quiet {
+        return Ok(String::new());
+    }
+    let mut out = terminal_summary(&d);
+    out.push_str("wrote:\n");
+    for p in written {
+        out.push_str(&format!("  {}\n", p.display()));
+    }
+    Ok(out)
+}
+
+/// Run a parsed command.
+pub fn run(cli: &Cli) -> Result<String, CliError> {
+    match &cli.command {
+        Command::Design(a) => run_design(a),
+        Command::DemoBrief => Ok(DEMO_BRIEF_TOML.to_string()),
+    }
+}
+
+/// Parse `args`, run, print, and return the exit code.
+pub fn main_with_args<I, T>(args: I) -> i32
+where
+    I: IntoIterator<Item = T>,
+    T: Into<std::ffi::OsString> + Clone,
+{
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { EXIT_USAGE } else { EXIT_OK };
+            let _ = e.print();
+            return code;
+        }
+    };
+    match run(&cli) {
+        Ok(text) => {
+            print!("{text}");
+            EXIT_OK
+        }
+        Err(e) => {
+            match &e {
+                CliError::Infeasible(inf) => eprint!("loopwright: {}", infeasible_message(inf)),
+                other => eprintln!("loopwright: {other}"),
+            }
+            e.exit_code()
+        }
+    }
+}
