@@ -36,6 +36,12 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
     let mut tmp = tempfile::Builder::new().prefix(".loopwright-").suffix(".tmp").tempfile_in(dir).map_err(io)?;
     tmp.write_all(bytes).map_err(io)?;
+    // Temporary files are created private (0600); outputs are ordinary documents for a team.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        tmp.as_file().set_permissions(std::fs::Permissions::from_mode(0o644)).map_err(io)?;
+    }
     tmp.as_file().sync_all().map_err(io)?;
     tmp.persist(path).map_err(|e| io(e.error))?;
     Ok(())
