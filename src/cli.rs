@@ -34,6 +34,12 @@ pub enum Command {
     Design(DesignArgs),
     /// Print the built-in demo brief (TOML) to start your own from.
     DemoBrief,
+    /// Design one brief with every shape family and compare them side by side.
+    Compare(CompareArgs),
+    /// Design a grid of briefs (entry speed × max g × min top g × family) in parallel.
+    Sweep(SweepArgs),
+    /// Merge sweep shard CSVs into the CSV of the whole sweep.
+    Merge(MergeArgs),
 }
 
 /// Brief fields as flags; each overrides the same field of a brief file.
@@ -102,6 +108,9 @@ pub struct DesignArgs {
     #[arg(long, short)]
     pub quiet: bool,
 }
+
+pub mod study;
+pub use study::{CompareArgs, MergeArgs, SweepArgs};
 
 /// A failure with the exit code it maps to.
 #[derive(Debug, thiserror::Error)]
@@ -214,6 +223,9 @@ pub fn run(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
         Command::Design(a) => run_design(a),
         Command::DemoBrief => Ok(DEMO_BRIEF_TOML.to_string()),
+        Command::Compare(a) => study::run_compare(a),
+        Command::Sweep(a) => study::run_sweep(a),
+        Command::Merge(a) => study::run_merge(a),
     }
 }
 

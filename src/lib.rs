@@ -2,7 +2,8 @@
 //!
 //! Data flows one way, one module per stage:
 //! [`brief`] → [`shape`] → [`geometry`] → [`dynamics`] → [`checks`] → [`optimiser`] → [`export`]
-//! (with [`report`] for the terminal). No stage uses a later one.
+//! (with [`report`] for the terminal). No stage uses a later one. Studies over many loops,
+//! [`compare`] (every family) and [`sweep`] (a grid of briefs), sit between optimiser and export.
 //!
 //! CAUTION: results are for concept studies only. Final design must follow the governing standard
 //! (e.g. ASTM F2291, EN 13814), local codes and a licensed engineer's review. Default limits are
@@ -11,10 +12,12 @@
 pub mod brief;
 pub mod checks;
 pub mod cli;
+pub mod compare;
 pub mod dynamics;
 pub mod export;
 pub mod geometry;
 pub mod optimiser;
 pub mod report;
 pub mod shape;
+pub mod sweep;
 pub mod units;

@@ -9,10 +9,16 @@
 //! - `<name>-loads.svg`: loads against arc length with the limits ([`plot`]);
 //! - `<name>-loads.csv`: one row per station ([`table`]);
 //! - `<name>.json`: the report ([`json`]).
+//!
+//! Studies: `<name>-compare.{csv,json}` and `<name>-sweep.csv` ([`study`]); the compare overlays
+//! `<name>-compare-elevation.svg`, `<name>-compare-loads.svg` and the sweep summary
+//! `<name>-sweep.svg` ([`overlay`]).
 
 pub mod dxf;
 pub mod json;
+pub mod overlay;
 pub mod plot;
+pub mod study;
 pub mod svg;
 pub mod table;
 
