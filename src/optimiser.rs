@@ -233,29 +233,40 @@ pub fn size_range(brief: &Brief, kind: ShapeKind, shape: &[f64], fine: bool, cou
     let grid = radius_grid(brief);
     let mk = |side| SizeMargin { brief, kind, shape, side, fine, counter };
     let up = mk(Side::Upper);
-    let mut up_m = Vec::with_capacity(grid.len());
-    let mut low_m = Vec::with_capacity(grid.len());
-    for &r in &grid {
-        let e = up.eval(r.ln());
-        up_m.push(side_margin(brief, &e, Side::Upper));
-        low_m.push(side_margin(brief, &e, Side::Lower));
-        if up_m[up_m.len() - 1] < 0.0 && low_m[low_m.len() - 1] >= 0.0 {
-            break; // past the upper bound with the lower one met: nothing more to learn
-        }
-    }
+    // Both margins at a grid point come from one evaluation, made only when a search needs it.
+    let mut memo: Vec<Option<(f64, f64)>> = vec![None; grid.len()];
+    let mut margins = |i: usize| {
+        *memo[i].get_or_insert_with(|| {
+            let e = up.eval(grid[i].ln());
+            (side_margin(brief, &e, Side::Upper), side_margin(brief, &e, Side::Lower))
+        })
+    };
+    // The upper margin falls and the lower one rises with size (module docs), so the first grid
+    // point where each changes sign is found by bisection: the same points a scan along the grid
+    // finds, with about a third of the evaluations.
     // Upper bound: first failure of the upper side.
-    let hi = match up_m.iter().position(|&m| m < 0.0) {
+    let hi = match first_true(grid.len(), |i| margins(i).0 < 0.0) {
         Some(0) => return SizeRange::UpperFailsEverywhere,
         Some(i) => brent_root(mk(Side::Upper), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => grid[grid.len() - 1],
     };
     // Lower bound: first pass of the lower side.
-    let lo = match low_m.iter().position(|&m| m >= 0.0) {
+    let lo = match first_true(grid.len(), |i| margins(i).1 >= 0.0) {
         Some(0) => grid[0],
         Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => return SizeRange::LowerFailsEverywhere { hi_m: hi },
     };
     if lo <= hi { SizeRange::Feasible { lo_m: lo, hi_m: hi } } else { SizeRange::Gap { lo_m: lo, hi_m: hi } }
+}
+
+/// Smallest `i < n` with `pred(i)`, for a predicate false then true along `0..n`; `None` if never true.
+fn first_true(n: usize, mut pred: impl FnMut(usize) -> bool) -> Option<usize> {
+    let (mut lo, mut hi) = (0, n);
+    while lo < hi {
+        let mid = (lo + hi) / 2;
+        if pred(mid) { hi = mid } else { lo = mid + 1 }
+    }
+    (lo < n).then_some(lo)
 }
 
 /// Heartline height per metre of top radius for a shape (geometry only; loops of one shape are similar).
@@ -326,10 +337,39 @@ impl CostFunction for ShapeCost<'_> {
     }
 }
 
-/// One-parameter view of [`ShapeCost`] for argmin's `BrentOpt`.
-struct ShapeCost1<'a>(ShapeCost<'a>);
+/// [`ShapeCost`] that remembers every shape it has costed: the scan, the solver and the final
+/// comparison ask for some shapes more than once, and a shape's cost never changes.
+struct MemoShapeCost<'a> {
+    inner: ShapeCost<'a>,
+    seen: std::cell::RefCell<Vec<(Vec<f64>, f64)>>,
+}
 
-impl CostFunction for ShapeCost1<'_> {
+impl<'a> MemoShapeCost<'a> {
+    fn new(inner: ShapeCost<'a>) -> Self {
+        Self { inner, seen: std::cell::RefCell::new(Vec::new()) }
+    }
+    fn shape_cost(&self, shape: &[f64]) -> f64 {
+        if let Some((_, c)) = self.seen.borrow().iter().find(|(s, _)| s.as_slice() == shape) {
+            return *c;
+        }
+        let c = self.inner.shape_cost(shape);
+        self.seen.borrow_mut().push((shape.to_vec(), c));
+        c
+    }
+}
+
+impl CostFunction for MemoShapeCost<'_> {
+    type Param = Vec<f64>;
+    type Output = f64;
+    fn cost(&self, p: &Vec<f64>) -> Result<f64, ArgminError> {
+        Ok(self.shape_cost(p))
+    }
+}
+
+/// One-parameter view of [`ShapeCost`] for argmin's `BrentOpt`.
+struct ShapeCost1<'a, 'b>(&'b MemoShapeCost<'a>);
+
+impl CostFunction for ShapeCost1<'_, '_> {
     type Param = f64;
     type Output = f64;
     fn cost(&self, p: &f64) -> Result<f64, ArgminError> {
@@ -340,7 +380,7 @@ impl CostFunction for ShapeCost1<'_> {
 /// Best shape parameters found by the outer search.
 fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> Vec<f64> {
     let bounds = fam.shape_bounds();
-    let problem = ShapeCost { brief, kind: fam.kind(), counter };
+    let problem = MemoShapeCost::new(ShapeCost { brief, kind: fam.kind(), counter });
     match bounds.len() {
         0 => Vec::new(),
         1 => {
@@ -355,14 +395,13 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
             let step = (hi - lo) / 8.0;
             let (a, b) = ((best - step).max(lo), (best + step).min(hi));
             let solver = BrentOpt::new(a, b).set_tolerance(1e-5, 1e-5);
-            let found = Executor::new(ShapeCost1(problem), solver)
+            let found = Executor::new(ShapeCost1(&problem), solver)
                 .configure(|s| s.max_iters(30))
                 .run()
                 .ok()
                 .and_then(|r| r.state().get_best_param().copied())
                 .unwrap_or(best);
-            let check = ShapeCost { brief, kind: fam.kind(), counter };
-            if check.shape_cost(&[found]) <= check.shape_cost(&[best]) { vec![found] } else { vec![best] }
+            if problem.shape_cost(&[found]) <= problem.shape_cost(&[best]) { vec![found] } else { vec![best] }
         }
         _ => {
             let x0 = fam.default_shape();
