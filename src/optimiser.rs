@@ -209,7 +209,8 @@ fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> f64 {
 /// The feasible size interval of one shape, if any.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum SizeRange {
-    /// Top radii from `lo_m` to `hi_m` meet every limit.
+    /// Top radii from `lo_m` to `hi_m` meet every limit. In a coarse search (`fine = false`)
+    /// `lo_m` may be a grid radius above the true lower bound: only `hi_m` is needed there.
     Feasible { lo_m: f64, hi_m: f64 },
     /// The lower bound lies above the upper bound: no size works.
     Gap { lo_m: f64, hi_m: f64 },
@@ -245,7 +246,8 @@ pub fn size_range(brief: &Brief, kind: ShapeKind, shape: &[f64], fine: bool, cou
     // point where each changes sign is found by bisection: the same points a scan along the grid
     // finds, with about a third of the evaluations.
     // Upper bound: first failure of the upper side.
-    let hi = match first_true(grid.len(), |i| margins(i).0 < 0.0) {
+    let hi_at = first_true(grid.len(), |i| margins(i).0 < 0.0);
+    let hi = match hi_at {
         Some(0) => return SizeRange::UpperFailsEverywhere,
         Some(i) => brent_root(mk(Side::Upper), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => grid[grid.len() - 1],
@@ -253,6 +255,9 @@ pub fn size_range(brief: &Brief, kind: ShapeKind, shape: &[f64], fine: bool, cou
     // Lower bound: first pass of the lower side.
     let lo = match first_true(grid.len(), |i| margins(i).1 >= 0.0) {
         Some(0) => grid[0],
+        // The lower side passes at a grid radius below the upper bound's bracket: feasible for
+        // certain, and a coarse search needs no more than that.
+        Some(i) if !fine && hi_at.is_none_or(|h| i < h) => grid[i],
         Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => return SizeRange::LowerFailsEverywhere { hi_m: hi },
     };
