@@ -14,7 +14,7 @@ use dxf::{Color, Drawing, Point, Vector};
 use nalgebra::Vector3;
 
 use super::ExportError;
-use super::plot::wrap;
+use super::plot::{clean_text, wrap};
 use crate::optimiser::Design;
 use crate::report::CAUTION;
 
@@ -125,7 +125,8 @@ pub fn dxf_bytes(design: &Design) -> Result<Vec<u8>, ExportError> {
         let text = Text {
             location: Point::new(lo.x, note_z(k), 0.0),
             text_height: height,
-            value: line.clone(),
+            // Control characters would reach CAD as ^-escapes; spaces read better.
+            value: clean_text(line),
             normal: Vector::new(0.0, -1.0, 0.0),
             ..Default::default()
         };
