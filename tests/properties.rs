@@ -13,11 +13,17 @@ use proptest::prelude::*;
 fn resimulate(d: &Design, ds: f64) -> (f64, f64, f64) {
     let b = &d.brief;
     let p = &d.best.profile;
-    let (mu, k) = (b.rolling_resistance, b.air_density_kg_m3 * b.drag_area_m2 / b.mass_kg);
+    let (mu, k) = (
+        b.rolling_resistance,
+        b.air_density_kg_m3 * b.drag_area_m2 / b.mass_kg,
+    );
     let n_of = |s: f64, u: f64| u * p.curvature_1_m(s) / G + p.pitch_rad(s).cos();
     let f = |s: f64, y: [f64; 2]| {
         let th = p.pitch_rad(s);
-        [th.sin(), -2.0 * G * th.sin() - 2.0 * mu * G * n_of(s, y[1]).abs() - k * y[1]]
+        [
+            th.sin(),
+            -2.0 * G * th.sin() - 2.0 * mu * G * n_of(s, y[1]).abs() - k * y[1],
+        ]
     };
     let total = p.length_m();
     let steps = (total / ds).ceil() as usize;
@@ -140,7 +146,13 @@ fn results_converge_as_sampling_is_refined() {
         let shape = loopwright::shape::family(kind).default_shape();
         let coarse = evaluate(&b, kind, &shape, 8.0, 0.2).unwrap().summary;
         let fine = evaluate(&b, kind, &shape, 8.0, 0.025).unwrap().summary;
-        assert!((coarse.peak_normal_g - fine.peak_normal_g).abs() < 0.01, "{kind}");
-        assert!((coarse.top_normal_g - fine.top_normal_g).abs() < 0.01, "{kind}");
+        assert!(
+            (coarse.peak_normal_g - fine.peak_normal_g).abs() < 0.01,
+            "{kind}"
+        );
+        assert!(
+            (coarse.top_normal_g - fine.top_normal_g).abs() < 0.01,
+            "{kind}"
+        );
     }
 }

@@ -31,7 +31,10 @@ use crate::optimiser::Design;
 #[derive(Debug, thiserror::Error)]
 pub enum ExportError {
     #[error("cannot write {path}: {source}")]
-    Io { path: PathBuf, source: std::io::Error },
+    Io {
+        path: PathBuf,
+        source: std::io::Error,
+    },
     #[error("cannot encode {what}: {message}")]
     Encode { what: &'static str, message: String },
 }
@@ -42,15 +45,27 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
 }
 
 fn staged(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, ExportError> {
-    let io = |source| ExportError::Io { path: path.to_path_buf(), source };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let mut tmp = tempfile::Builder::new().prefix(".loopwright-").suffix(".tmp").tempfile_in(dir).map_err(io)?;
+    let io = |source| ExportError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".loopwright-")
+        .suffix(".tmp")
+        .tempfile_in(dir)
+        .map_err(io)?;
     tmp.write_all(bytes).map_err(io)?;
     // Temporary files are created private (0600); outputs are ordinary documents for a team.
     #[cfg(unix)]
     {
         use std::os::unix::fs::PermissionsExt;
-        tmp.as_file().set_permissions(std::fs::Permissions::from_mode(0o644)).map_err(io)?;
+        tmp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(0o644))
+            .map_err(io)?;
     }
     tmp.as_file().sync_all().map_err(io)?;
     Ok(tmp)
@@ -74,7 +89,10 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError>
         }
     }
     for (path, tmp) in temps {
-        tmp.persist(path).map_err(|e| ExportError::Io { path: path.to_path_buf(), source: e.error })?;
+        tmp.persist(path).map_err(|e| ExportError::Io {
+            path: path.to_path_buf(),
+            source: e.error,
+        })?;
     }
     Ok(())
 }
@@ -85,8 +103,14 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
     let name = &design.brief.name;
     Ok(vec![
         (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
-        (format!("{name}.svg"), svg::elevation_svg(design).into_bytes()),
-        (format!("{name}-loads.svg"), plot::loads_svg(design).into_bytes()),
+        (
+            format!("{name}.svg"),
+            svg::elevation_svg(design).into_bytes(),
+        ),
+        (
+            format!("{name}-loads.svg"),
+            plot::loads_svg(design).into_bytes(),
+        ),
         (format!("{name}-loads.csv"), table::loads_csv(design)?),
         (format!("{name}.json"), json::report_json(design)?),
     ])
@@ -95,8 +119,14 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
 /// Encode and write every output of a design into `out_dir` (created if missing).
 pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
     let files = design_files(design)?;
-    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io { path: out_dir.to_path_buf(), source })?;
-    let files: Vec<(PathBuf, Vec<u8>)> = files.into_iter().map(|(n, b)| (out_dir.join(n), b)).collect();
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
+    let files: Vec<(PathBuf, Vec<u8>)> = files
+        .into_iter()
+        .map(|(n, b)| (out_dir.join(n), b))
+        .collect();
     write_all_atomic(&files)?;
     let written = files.into_iter().map(|(p, _)| p).collect();
     Ok(written)
