@@ -15,7 +15,9 @@ fn designs(c: &mut Criterion) {
     g.sample_size(20);
     for kind in ShapeKind::ALL {
         // The demo brief's circle is infeasible: this times the search plus its explanation.
-        g.bench_function(kind.name(), |b| b.iter(|| black_box(design_family(black_box(&brief), kind).is_ok())));
+        g.bench_function(kind.name(), |b| {
+            b.iter(|| black_box(design_family(black_box(&brief), kind).is_ok()))
+        });
     }
     g.finish();
 }
@@ -51,7 +53,9 @@ fn sweep_1000(c: &mut Criterion) {
     assert_eq!(spec.len(), 1000);
     let mut g = c.benchmark_group("sweep");
     g.sample_size(10);
-    g.bench_function("1000 clothoid designs", |b| b.iter(|| black_box(sweep::run(&spec, None, &|| {}).len())));
+    g.bench_function("1000 clothoid designs", |b| {
+        b.iter(|| black_box(sweep::run(&spec, None, &|| {}).len()))
+    });
     g.finish();
 }
 

@@ -38,11 +38,18 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let rows = sweep::run(&spec, None, &|| {});
 
     let files = vec![
-        (dir.join("copperwing-compare-elevation.svg"), overlay::elevation_overlay_svg(&c).into_bytes()),
-        (dir.join("copperwing-compare-loads.svg"), overlay::loads_overlay_svg(&c).into_bytes()),
+        (
+            dir.join("copperwing-compare-elevation.svg"),
+            overlay::elevation_overlay_svg(&c).into_bytes(),
+        ),
+        (
+            dir.join("copperwing-compare-loads.svg"),
+            overlay::loads_overlay_svg(&c).into_bytes(),
+        ),
         (
             dir.join("copperwing-sweep.svg"),
-            overlay::sweep_summary_svg(&rows, &spec.base_brief.title, spec.base_brief.objective).into_bytes(),
+            overlay::sweep_summary_svg(&rows, &spec.base_brief.title, spec.base_brief.objective)
+                .into_bytes(),
         ),
     ];
     write_all_atomic(&files)?;

@@ -571,10 +571,8 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
         "{feasible} of {} designs feasible; gaps are infeasible designs",
         rows.len()
     )];
-    if !many_tops {
-        if let Some(k) = keys.first() {
-            notes.push(format!("min_top_g = {:.2} g throughout", k.2));
-        }
+    if let (false, Some(k)) = (many_tops, keys.first()) {
+        notes.push(format!("min_top_g = {:.2} g throughout", k.2));
     }
     let subtitle = if tallest {
         "sweep summary: tallest loop each family can reach under each g-limit".to_string()
