@@ -242,8 +242,9 @@ fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> f64 {
 /// The feasible size interval of one shape, if any.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum SizeRange {
-    /// Top radii from `lo_m` to `hi_m` meet every limit. In a coarse search (`fine = false`)
-    /// `lo_m` may be a grid radius above the true lower bound: only `hi_m` is needed there.
+    /// Top radii from `lo_m` to `hi_m` meet every limit. `lo_m` may lie above the smallest such
+    /// radius (a grid radius where the lower-side limits already pass): no caller needs the exact
+    /// lower bound of a feasible range, and finding it would cost a root search.
     Feasible { lo_m: f64, hi_m: f64 },
     /// The lower bound lies above the upper bound: no size works.
     Gap { lo_m: f64, hi_m: f64 },
@@ -304,12 +305,18 @@ pub fn size_range(
         Some(i) => brent_root(mk(Side::Upper), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => grid[grid.len() - 1],
     };
+    // The lower side already passes at the last grid radius below the upper bound: feasible for
+    // certain (the lower margin rises with size), so the exact lower bound is not needed.
+    let below = hi_at.map_or(grid.len() - 1, |h| h - 1);
+    if margins(below).1 >= 0.0 {
+        return SizeRange::Feasible {
+            lo_m: grid[below],
+            hi_m: hi,
+        };
+    }
     // Lower bound: first pass of the lower side.
     let lo = match first_true(grid.len(), |i| margins(i).1 >= 0.0) {
         Some(0) => grid[0],
-        // The lower side passes at a grid radius below the upper bound's bracket: feasible for
-        // certain, and a coarse search needs no more than that.
-        Some(i) if !fine && hi_at.is_none_or(|h| i < h) => grid[i],
         Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => return SizeRange::LowerFailsEverywhere { hi_m: hi },
     };
