@@ -83,19 +83,106 @@ const GL8: [(f64, f64); 8] = [
 
 /// Planar displacement (Δx, Δz) along a segment from local arc length 0 to `t`, starting at pitch `theta0`.
 pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64, f64) {
-    let k0 = seg.coeffs[0];
-    match seg.kind {
-        SegmentKind::Straight => (t * theta0.cos(), t * theta0.sin()),
-        SegmentKind::Arc if k0.abs() > 1e-300 => {
-            let th = theta0 + k0 * t;
-            (
-                (th.sin() - theta0.sin()) / k0,
-                (theta0.cos() - th.cos()) / k0,
-            )
+    SegmentStart::new(seg, theta0).displacement(t)
+}
+
+/// What [`segment_displacement`] needs at a segment's start, worked out once for all its stations
+/// (the start terms of the closed forms do not depend on the station; same arithmetic, same bits).
+struct SegmentStart<'a> {
+    seg: &'a CurvatureSegment,
+    theta0: f64,
+    sin0: f64,
+    cos0: f64,
+    clothoid: Option<ClothoidStart>,
+}
+
+impl<'a> SegmentStart<'a> {
+    fn new(seg: &'a CurvatureSegment, theta0: f64) -> Self {
+        let (sin0, cos0) = (theta0.sin(), theta0.cos());
+        let clothoid = (seg.kind == SegmentKind::Clothoid)
+            .then(|| ClothoidStart::new(theta0, seg.coeffs[0], seg.coeffs[1]))
+            .flatten();
+        Self {
+            seg,
+            theta0,
+            sin0,
+            cos0,
+            clothoid,
         }
-        SegmentKind::Clothoid => clothoid_displacement(theta0, k0, seg.coeffs[1], t)
-            .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
-        _ => quadrature_displacement(seg, theta0, 0.0, t),
+    }
+
+    fn displacement(&self, t: f64) -> (f64, f64) {
+        let (seg, theta0) = (self.seg, self.theta0);
+        let k0 = seg.coeffs[0];
+        match seg.kind {
+            SegmentKind::Straight => (t * self.cos0, t * self.sin0),
+            SegmentKind::Arc if k0.abs() > 1e-300 => {
+                let th = theta0 + k0 * t;
+                ((th.sin() - self.sin0) / k0, (self.cos0 - th.cos()) / k0)
+            }
+            SegmentKind::Clothoid => self
+                .clothoid
+                .as_ref()
+                .and_then(|c| c.displacement(t))
+                .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
+            _ => quadrature_displacement(seg, theta0, 0.0, t),
+        }
+    }
+}
+
+/// The station-independent part of [`clothoid_displacement`].
+struct ClothoidStart {
+    c: f64,
+    k0: f64,
+    a: f64,
+    s0: f64,
+    c0: f64,
+    sp: f64,
+    cp: f64,
+}
+
+impl ClothoidStart {
+    fn new(theta0: f64, k0: f64, c: f64) -> Option<Self> {
+        if c == 0.0 {
+            return None;
+        }
+        let a = (c.abs() / PI).sqrt();
+        let w0 = a * k0 / c;
+        // Past |w| ≈ 10 the differences of C and S cancel badly; quadrature is then the better tool.
+        if w0.abs() > 10.0 {
+            return None;
+        }
+        let (s0, c0) = fresnel::fresnl(w0);
+        let phi = theta0 - k0 * k0 / (2.0 * c);
+        let (sp, cp) = phi.sin_cos();
+        Some(Self {
+            c,
+            k0,
+            a,
+            s0,
+            c0,
+            sp,
+            cp,
+        })
+    }
+
+    fn displacement(&self, t: f64) -> Option<(f64, f64)> {
+        let Self {
+            c,
+            k0,
+            a,
+            s0,
+            c0,
+            sp,
+            cp,
+        } = *self;
+        let w1 = a * (t + k0 / c);
+        if w1.abs() > 10.0 {
+            return None;
+        }
+        let (s1, c1) = fresnel::fresnl(w1);
+        let (dc, ds) = (c1 - c0, (s1 - s0) * c.signum());
+        Some(((cp * dc - sp * ds) / a, (sp * dc + cp * ds) / a))
     }
 }
 
@@ -106,22 +193,7 @@ pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64
 /// a = √(|c|/π), w = a(τ + k0/c), φ = θ0 − k0²/(2c). Then ∫₀ᵗ e^{iθ} dτ =
 /// (e^{iφ}/a)·[ΔC + i·sgn(c)·ΔS] with C, S the Fresnel integrals of A&S 7.3.1 between w(0) and w(t).
 pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f64, f64)> {
-    if c == 0.0 {
-        return None;
-    }
-    let a = (c.abs() / PI).sqrt();
-    let w0 = a * k0 / c;
-    let w1 = a * (t + k0 / c);
-    // Past |w| ≈ 10 the differences of C and S cancel badly; quadrature is then the better tool.
-    if w0.abs() > 10.0 || w1.abs() > 10.0 {
-        return None;
-    }
-    let (s0, c0) = fresnel::fresnl(w0);
-    let (s1, c1) = fresnel::fresnl(w1);
-    let (dc, ds) = (c1 - c0, (s1 - s0) * c.signum());
-    let phi = theta0 - k0 * k0 / (2.0 * c);
-    let (sp, cp) = phi.sin_cos();
-    Some(((cp * dc - sp * ds) / a, (sp * dc + cp * ds) / a))
+    ClothoidStart::new(theta0, k0, c)?.displacement(t)
 }
 
 /// 4-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
@@ -207,6 +279,7 @@ impl Centreline {
             // Cubic pieces are integrated station to station (quadrature from the segment start
             // each time would cost O(n²)); the others have closed forms from the segment start.
             let (mut acc, mut t_prev) = ((0.0, 0.0), 0.0);
+            let start = SegmentStart::new(seg, theta0);
             for j in first..=n {
                 let t = seg.length_m * j as f64 / n as f64;
                 let (dx, dz) = if seg.kind == SegmentKind::Cubic {
@@ -215,7 +288,7 @@ impl Centreline {
                     t_prev = t;
                     acc
                 } else {
-                    segment_displacement(seg, theta0, t)
+                    start.displacement(t)
                 };
                 let s_m = s0 + t;
                 let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
@@ -233,7 +306,7 @@ impl Centreline {
             let (dx, dz) = if seg.kind == SegmentKind::Cubic {
                 acc
             } else {
-                segment_displacement(seg, theta0, seg.length_m)
+                start.displacement(seg.length_m)
             };
             x += dx;
             z += dz;
