@@ -607,29 +607,51 @@ fn explain_failed_checks(
     }
 }
 
-/// Lowest entry speed at which a loop of the brief's target height meets every limit, by bisection.
+/// The entry speed nearest the brief's at which a loop of its target height meets every limit.
+///
+/// Too slow a train cannot reach the top with enough load; too fast a one overloads the bottom, so
+/// the feasible speeds form a window that may lie on either side. A scan finds the feasible speed
+/// nearest the brief's, and bisection sharpens the window edge facing it.
 fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -> Option<f64> {
+    let Objective::Height { height_m } = brief.objective else {
+        return None;
+    };
     let ok = |v: f64| {
         let mut b = brief.clone();
         b.entry_speed_m_s = v;
         counter.fetch_add(1, Ordering::Relaxed);
         design_family_quiet(&b, kind)
     };
-    let (mut lo, mut hi) = (brief.entry_speed_m_s, brief.entry_speed_m_s);
-    for _ in 0..8 {
-        hi *= 1.3;
-        if ok(hi) {
-            break;
-        }
+    // Energy alone: below √(2gH) the train cannot climb H at all.
+    let v_lo = (2.0 * crate::units::STANDARD_GRAVITY_M_S2 * height_m).sqrt();
+    let v_hi = (2.0 * brief.entry_speed_m_s).max(1.5 * v_lo).min(150.0);
+    let n = 16;
+    let grid: Vec<f64> = (0..=n)
+        .map(|i| v_lo + (v_hi - v_lo) * i as f64 / n as f64)
+        .collect();
+    let feasible: Vec<bool> = grid.iter().map(|&v| ok(v)).collect();
+    let v0 = brief.entry_speed_m_s;
+    let best = (0..grid.len())
+        .filter(|&i| feasible[i])
+        .min_by(|&a, &b| (grid[a] - v0).abs().total_cmp(&(grid[b] - v0).abs()))?;
+    // The neighbour towards the brief's speed is infeasible (or the brief's own speed is).
+    let (mut good, mut bad) = if grid[best] > v0 {
+        (grid[best], if best > 0 { grid[best - 1] } else { v0 })
+    } else {
+        (
+            grid[best],
+            if best + 1 < grid.len() {
+                grid[best + 1]
+            } else {
+                v0
+            },
+        )
+    };
+    for _ in 0..12 {
+        let mid = 0.5 * (good + bad);
+        if ok(mid) { good = mid } else { bad = mid }
     }
-    if !ok(hi) {
-        return None;
-    }
-    for _ in 0..20 {
-        let mid = 0.5 * (lo + hi);
-        if ok(mid) { hi = mid } else { lo = mid }
-    }
-    Some(hi)
+    Some(good)
 }
 
 /// Whether a height-objective brief is feasible, without building explanations (no recursion).
