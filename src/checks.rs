@@ -4,12 +4,18 @@
 //! length, peak and top loads, onset); [`check`] compares them with [`Limits`] and gives a
 //! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
 //!
+//! For a train, [`summarise_train`] gives each car's figures and a worst-car [`Summary`] (highest
+//! peak, lowest top load, …), so the checks and the optimiser constrain the worst car. The
+//! duration-based acceleration envelope is in [`envelope`].
+//!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
+
+pub mod envelope;
 
 use serde::Serialize;
 
 use crate::brief::Brief;
-use crate::dynamics::Ride;
+use crate::dynamics::{Ride, TrainRide};
 use crate::geometry::Centreline;
 
 /// The limits a design must meet.
@@ -60,6 +66,8 @@ pub struct Summary {
     pub min_tangential_g: f64,
     pub exit_speed_m_s: f64,
     pub time_in_loop_s: f64,
+    /// Largest |roll| of the rider's cross-axis from horizontal, degrees (0 on a planar loop).
+    pub peak_roll_deg: f64,
 }
 
 /// Reduce a ride to its key figures.
@@ -69,8 +77,12 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
     let top = path.top_index();
     let in_loop: Vec<usize> = (0..st.len()).filter(|&i| st[i].in_loop).collect();
     let (first, last) = (in_loop[0], in_loop[in_loop.len() - 1]);
-    let peak = (0..pts.len()).max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g)).unwrap_or(0);
-    let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| (0..pts.len()).map(f).fold(init, pick);
+    let peak = (0..pts.len())
+        .max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g))
+        .unwrap_or(0);
+    let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| {
+        (0..pts.len()).map(f).fold(init, pick)
+    };
     Summary {
         loop_height_m: path.loop_height_m(),
         rail_height_m: path.rail_height_m(),
@@ -84,12 +96,78 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
         top_speed_m_s: pts[top].speed_m_s,
         top_s_m: pts[top].s_m,
         peak_onset_g_s: fold(&|i| pts[i].onset_g_s.abs(), 0.0, f64::max),
-        max_load_step_g: ride.steps.iter().map(|s| s.jump_g.abs()).fold(0.0, f64::max),
+        max_load_step_g: ride
+            .steps
+            .iter()
+            .map(|s| s.jump_g.abs())
+            .fold(0.0, f64::max),
         peak_lateral_g: fold(&|i| pts[i].lateral_g.abs(), 0.0, f64::max),
         min_tangential_g: fold(&|i| pts[i].tangential_g, f64::MAX, f64::min),
         exit_speed_m_s: pts[last].speed_m_s,
         time_in_loop_s: pts[last].time_s - pts[first].time_s,
+        peak_roll_deg: path.peak_roll_rad().to_degrees(),
     }
+}
+
+/// Key figures of one car of a train.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct CarSummary {
+    /// 0 is the front car.
+    pub car: usize,
+    /// Heartline distance behind the front car, m.
+    pub offset_m: f64,
+    pub peak_normal_g: f64,
+    pub peak_normal_s_m: f64,
+    pub min_normal_g: f64,
+    pub top_normal_g: f64,
+    pub top_speed_m_s: f64,
+    pub peak_onset_g_s: f64,
+    pub peak_lateral_g: f64,
+    pub min_tangential_g: f64,
+}
+
+/// Each car's figures and the worst-car summary: the highest peak, onset, step and lateral load
+/// and the lowest minimum, top and tangential load of any car (the top speed is that of the car
+/// with the lowest top load; exit speed and time in the loop are the rear car's, when the whole
+/// train has left the loop). For one car it is [`summarise`] exactly.
+pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<CarSummary>) {
+    let per: Vec<Summary> = train.cars.iter().map(|r| summarise(path, r)).collect();
+    let cars = per
+        .iter()
+        .enumerate()
+        .map(|(j, s)| CarSummary {
+            car: j,
+            offset_m: j as f64 * train.train.car_pitch_m,
+            peak_normal_g: s.peak_normal_g,
+            peak_normal_s_m: s.peak_normal_s_m,
+            min_normal_g: s.min_normal_g,
+            top_normal_g: s.top_normal_g,
+            top_speed_m_s: s.top_speed_m_s,
+            peak_onset_g_s: s.peak_onset_g_s,
+            peak_lateral_g: s.peak_lateral_g,
+            min_tangential_g: s.min_tangential_g,
+        })
+        .collect();
+    let mut w = per[0];
+    for s in &per[1..] {
+        if s.peak_normal_g > w.peak_normal_g {
+            w.peak_normal_g = s.peak_normal_g;
+            w.peak_normal_s_m = s.peak_normal_s_m;
+        }
+        if s.top_normal_g < w.top_normal_g {
+            w.top_normal_g = s.top_normal_g;
+            w.top_speed_m_s = s.top_speed_m_s;
+        }
+        w.min_normal_g = w.min_normal_g.min(s.min_normal_g);
+        w.peak_onset_g_s = w.peak_onset_g_s.max(s.peak_onset_g_s);
+        w.max_load_step_g = w.max_load_step_g.max(s.max_load_step_g);
+        w.peak_lateral_g = w.peak_lateral_g.max(s.peak_lateral_g);
+        w.min_tangential_g = w.min_tangential_g.min(s.min_tangential_g);
+    }
+    let rear = per[per.len() - 1];
+    w.exit_speed_m_s = rear.exit_speed_m_s;
+    w.time_in_loop_s = rear.time_in_loop_s;
+    (w, cars)
 }
 
 /// Which limit a check line is about.
@@ -133,25 +211,76 @@ impl Verdict {
 
 /// The design's onset figure for the onset limit: unbounded if the load steps anywhere.
 pub fn onset_for_limit(s: &Summary) -> f64 {
-    if s.max_load_step_g > 1e-9 { f64::INFINITY } else { s.peak_onset_g_s }
+    if s.max_load_step_g > 1e-9 {
+        f64::INFINITY
+    } else {
+        s.peak_onset_g_s
+    }
 }
 
 /// Compare a summary with limits.
 pub fn check(s: &Summary, limits: &Limits) -> Verdict {
     let mut lines = Vec::new();
     let mut line = |limit, label: &str, value: f64, limit_value: f64, unit, upper: bool| {
-        let margin = if upper { limit_value - value } else { value - limit_value };
-        lines.push(CheckLine { limit, label: label.into(), value, limit_value, unit, margin, pass: margin >= 0.0 });
+        let margin = if upper {
+            limit_value - value
+        } else {
+            value - limit_value
+        };
+        lines.push(CheckLine {
+            limit,
+            label: label.into(),
+            value,
+            limit_value,
+            unit,
+            margin,
+            pass: margin >= 0.0,
+        });
     };
-    line(LimitKind::MaxG, "peak normal load", s.peak_normal_g, limits.max_g, "g", true);
-    line(LimitKind::MinTopG, "normal load at the top", s.top_normal_g, limits.min_top_g, "g", false);
+    line(
+        LimitKind::MaxG,
+        "peak normal load",
+        s.peak_normal_g,
+        limits.max_g,
+        "g",
+        true,
+    );
+    line(
+        LimitKind::MinTopG,
+        "normal load at the top",
+        s.top_normal_g,
+        limits.min_top_g,
+        "g",
+        false,
+    );
     if let Some(max) = limits.max_onset_g_s {
-        line(LimitKind::MaxOnset, "peak onset", onset_for_limit(s), max, "g/s", true);
+        line(
+            LimitKind::MaxOnset,
+            "peak onset",
+            onset_for_limit(s),
+            max,
+            "g/s",
+            true,
+        );
     }
     if let Some(max) = limits.max_height_m {
-        line(LimitKind::MaxHeight, "loop height (heartline)", s.loop_height_m, max, "m", true);
+        line(
+            LimitKind::MaxHeight,
+            "loop height (heartline)",
+            s.loop_height_m,
+            max,
+            "m",
+            true,
+        );
     }
-    line(LimitKind::MinRadius, "smallest radius (heartline)", s.min_radius_m, limits.min_radius_m, "m", false);
+    line(
+        LimitKind::MinRadius,
+        "smallest radius (heartline)",
+        s.min_radius_m,
+        limits.min_radius_m,
+        "m",
+        false,
+    );
     let pass = lines.iter().all(|l| l.pass);
     Verdict { lines, pass }
 }

@@ -14,31 +14,82 @@ pub fn terminal_summary(d: &Design) -> String {
     let b = &d.brief;
     let mut out = String::new();
     let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
-    out.push_str(&format!("loopwright design: {} ({})\n", b.title, d.best.kind));
+    out.push_str(&format!(
+        "loopwright design: {} ({})\n",
+        b.title, d.best.kind
+    ));
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
-    row(&mut out, "loop height (heartline)", format!("{:.2} m", s.loop_height_m));
-    row(&mut out, "loop height (rail)", format!("{:.2} m", s.rail_height_m));
-    row(&mut out, "path length in loop (heartline)", format!("{:.2} m", s.path_length_m));
-    row(&mut out, "top radius (heartline)", format!("{:.2} m", d.best.top_radius_m));
-    row(&mut out, "smallest radius (heartline)", format!("{:.2} m", s.min_radius_m));
-    row(&mut out, "peak normal load", format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m));
-    row(&mut out, "normal load at the top", format!("{:.3} g", s.top_normal_g));
-    row(&mut out, "speed at the top", describe_speed(s.top_speed_m_s));
+    row(
+        &mut out,
+        "loop height (heartline)",
+        format!("{:.2} m", s.loop_height_m),
+    );
+    row(
+        &mut out,
+        "loop height (rail)",
+        format!("{:.2} m", s.rail_height_m),
+    );
+    row(
+        &mut out,
+        "path length in loop (heartline)",
+        format!("{:.2} m", s.path_length_m),
+    );
+    row(
+        &mut out,
+        "top radius (heartline)",
+        format!("{:.2} m", d.best.top_radius_m),
+    );
+    row(
+        &mut out,
+        "smallest radius (heartline)",
+        format!("{:.2} m", s.min_radius_m),
+    );
+    row(
+        &mut out,
+        "peak normal load",
+        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+    );
+    row(
+        &mut out,
+        "normal load at the top",
+        format!("{:.3} g", s.top_normal_g),
+    );
+    row(
+        &mut out,
+        "speed at the top",
+        describe_speed(s.top_speed_m_s),
+    );
     let onset = if s.max_load_step_g > 1e-9 {
-        format!("{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)", s.peak_onset_g_s, s.max_load_step_g)
+        format!(
+            "{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)",
+            s.peak_onset_g_s, s.max_load_step_g
+        )
     } else {
         format!("{:.2} g/s", s.peak_onset_g_s)
     };
     row(&mut out, "peak onset", onset);
-    row(&mut out, "time in loop", format!("{:.2} s", s.time_in_loop_s));
+    row(
+        &mut out,
+        "time in loop",
+        format!("{:.2} s", s.time_in_loop_s),
+    );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
     if !d.shape_labels.is_empty() {
-        let p: Vec<String> = d.shape_labels.iter().zip(&d.best.shape).map(|(l, v)| format!("{l} = {v:.4}")).collect();
+        let p: Vec<String> = d
+            .shape_labels
+            .iter()
+            .zip(&d.best.shape)
+            .map(|(l, v)| format!("{l} = {v:.4}"))
+            .collect();
         row(&mut out, "shape parameters", p.join(", "));
     }
     out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
     for l in &d.verification.verdict.lines {
-        let value = if l.value.is_finite() { format!("{:.3}", l.value) } else { "unbounded".into() };
+        let value = if l.value.is_finite() {
+            format!("{:.3}", l.value)
+        } else {
+            "unbounded".into()
+        };
         out.push_str(&format!(
             "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
             if l.pass { "ok" } else { "FAIL" },
@@ -47,8 +98,61 @@ pub fn terminal_summary(d: &Design) -> String {
             l.limit_value
         ));
     }
+    out.push_str(&train_and_envelope(d));
     out.push_str(CAUTION);
     out.push('\n');
+    out
+}
+
+/// Terminal lines for the lateral shift, the train's cars and the duration envelope.
+pub fn train_and_envelope(d: &Design) -> String {
+    let b = &d.brief;
+    let s = &d.verification.summary;
+    let mut out = String::new();
+    out.push_str(&format!(
+        "  {:<34} {:.2} m (exit beside entry); peak roll of the rider {:.2} deg\n",
+        "lateral shift", b.lateral_shift_m, s.peak_roll_deg
+    ));
+    let cars = &d.verification.cars;
+    if cars.len() > 1 {
+        out.push_str(&format!(
+            "  train: {} cars at {:.2} m pitch ({:.2} m front to rear); limits apply to the worst car\n",
+            cars.len(),
+            b.car_pitch_m,
+            d.verification.train.train.length_m()
+        ));
+        let mid = d.verification.train.train.middle();
+        for (label, j) in [("front", 0), ("middle", mid), ("rear", cars.len() - 1)] {
+            let c = &cars[j];
+            out.push_str(&format!(
+                "    {label:<6} (car {j:>2}) peak {:.3} g, top {:.3} g at {:.2} m/s, peak lateral {:.3} g\n",
+                c.peak_normal_g, c.top_normal_g, c.top_speed_m_s, c.peak_lateral_g
+            ));
+        }
+    }
+    let e = &d.envelope;
+    out.push_str(&format!(
+        "  acceleration envelope: {}{} — {}\n",
+        e.title,
+        if e.illustrative {
+            " [ILLUSTRATIVE; reported only unless --limits is given]"
+        } else {
+            ""
+        },
+        if e.pass { "pass" } else { "FAIL" }
+    ));
+    for l in &e.levels {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_level(l)
+        ));
+    }
+    for o in &e.onsets {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_onset(o)
+        ));
+    }
     out
 }
 

@@ -4,7 +4,8 @@ use serde::Serialize;
 
 use super::ExportError;
 use crate::brief::Brief;
-use crate::checks::CheckLine;
+use crate::checks::envelope::EnvelopeReport;
+use crate::checks::{CarSummary, CheckLine};
 use crate::dynamics::LoadStep;
 use crate::optimiser::Design;
 use crate::report::CAUTION;
@@ -37,6 +38,15 @@ pub struct Report<'a> {
     pub verified_at_spacing_m: f64,
     pub evaluations: usize,
     pub brief: &'a Brief,
+    /// Sideways spread of the loop, m, and the largest roll of the rider's cross-axis, degrees.
+    pub lateral_shift_m: f64,
+    pub peak_roll_deg: f64,
+    pub cars: usize,
+    pub car_pitch_m: f64,
+    /// Every car's figures (front first), from the verification run.
+    pub per_car: &'a [CarSummary],
+    /// The duration-based envelope check, level by level.
+    pub envelope: &'a EnvelopeReport,
 }
 
 /// Build the report of a design.
@@ -63,18 +73,31 @@ pub fn report(d: &Design) -> Report<'_> {
         load_steps: &d.best.ride.steps,
         exit_speed_m_s: s.exit_speed_m_s,
         time_in_loop_s: s.time_in_loop_s,
-        shape_parameters: d.shape_labels.iter().copied().zip(d.best.shape.iter().copied()).collect(),
+        shape_parameters: d
+            .shape_labels
+            .iter()
+            .copied()
+            .zip(d.best.shape.iter().copied())
+            .collect(),
         checks: &d.verification.verdict.lines,
         verified_at_spacing_m: d.verification.spacing_m,
         evaluations: d.evaluations,
         brief: &d.brief,
+        lateral_shift_m: d.brief.lateral_shift_m,
+        peak_roll_deg: d.verification.summary.peak_roll_deg,
+        cars: d.brief.cars,
+        car_pitch_m: d.brief.car_pitch_m,
+        per_car: &d.verification.cars,
+        envelope: &d.envelope,
     }
 }
 
 /// Pretty-printed JSON bytes of the report.
 pub fn report_json(d: &Design) -> Result<Vec<u8>, ExportError> {
-    let mut v = serde_json::to_vec_pretty(&report(d))
-        .map_err(|e| ExportError::Encode { what: "JSON report", message: e.to_string() })?;
+    let mut v = serde_json::to_vec_pretty(&report(d)).map_err(|e| ExportError::Encode {
+        what: "JSON report",
+        message: e.to_string(),
+    })?;
     v.push(b'\n');
     Ok(v)
 }
