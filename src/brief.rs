@@ -314,15 +314,15 @@ impl BriefInput {
                 height_m: in_range("height_m", h, 0.5, 500.0, "m")?,
             },
         };
-        if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m) {
-            if height_m > max_h {
-                return Err(err(
-                    "height_m",
-                    format!(
-                        "{height_m} m is above max_height_m = {max_h} m; the two contradict each other"
-                    ),
-                ));
-            }
+        if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m)
+            && height_m > max_h
+        {
+            return Err(err(
+                "height_m",
+                format!(
+                    "{height_m} m is above max_height_m = {max_h} m; the two contradict each other"
+                ),
+            ));
         }
         let heartline_height_m = in_range(
             "heartline_height_m",

@@ -33,6 +33,8 @@ pub struct Cli {
     pub command: Command,
 }
 
+// Parsed once per process; boxing the large variant would buy nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Design one loop for a brief and write DXF, SVG, CSV and JSON.

@@ -55,8 +55,9 @@ fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> [f64; 4] {
         b.swap(col, piv);
         for row in col + 1..4 {
             let f = a[row][col] / a[col][col];
-            for k in col..4 {
-                a[row][k] -= f * a[col][k];
+            let pivot_row = a[col];
+            for (x, p) in a[row].iter_mut().zip(pivot_row).skip(col) {
+                *x -= f * p;
             }
             b[row] -= f * b[col];
         }
