@@ -358,29 +358,21 @@ impl EnvelopeReport {
     }
 }
 
-/// A level line as text, e.g. "normal above 5.000 g: longest 0.812 s (car 0), allowed 1.000 s — ok".
+/// A level line as text, e.g. "normal above 5.000 g for at most 1.000 s: longest 0.812 s (car 0) — ok".
 pub fn describe_level(l: &LevelResult) -> String {
-    let side = if l.bound == Bound::Above {
-        "above"
-    } else {
-        "below"
-    };
+    let side = if l.bound == Bound::Above { "above" } else { "below" };
     let allowed = if l.allowed_s == 0.0 {
-        "never allowed".to_string()
+        "(absolute)".to_string()
     } else {
-        format!("allowed {:.3} s", l.allowed_s)
+        format!("for at most {:.3} s", l.allowed_s)
     };
     let got = if l.exceeded {
         format!("longest {:.3} s (car {})", l.longest_s, l.worst_car)
     } else {
-        "never".to_string()
+        "never beyond".to_string()
     };
-    format!(
-        "{} {side} {:.3} g: {got}, {allowed} — {}",
-        l.axis.name(),
-        l.level_g,
-        if l.pass { "ok" } else { "FAIL" }
-    )
+    let verdict = if l.pass { "ok" } else { "FAIL" };
+    format!("{} {side} {:.3} g {allowed}: {got} — {verdict}", l.axis.name(), l.level_g)
 }
 
 /// An onset line as text.
