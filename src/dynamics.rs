@@ -42,7 +42,7 @@
 //! let ride = simulate(&c, &Conditions::lossless(25.0)).unwrap();
 //! // Bottom of a circle entered at v: n = 1 + v²/(gR).
 //! let g = loopwright::units::STANDARD_GRAVITY_M_S2;
-//! assert!((ride.points[1].normal_g - (1.0 + 625.0 / (g * 10.0))).abs() < 1e-9);
+//! assert!((ride.points[0].normal_g - (1.0 + 625.0 / (g * 10.0))).abs() < 1e-9);
 //! ```
 
 use nalgebra::Vector3;

@@ -358,19 +358,21 @@ impl Centreline {
         let len = b - a;
         let h = self.heartline_height_m;
         let mut stations = Vec::with_capacity(self.stations.len());
-        let mut s_true = self.stations.first().map_or(0.0, |st| st.s_m);
+        // s = σ + ∫(√(1 + y'²) − 1) dσ: only the small excess is integrated, so a zero shift gives
+        // s = σ exactly and the excess keeps full relative precision.
+        let mut excess = 0.0;
         for (i, st) in self.stations.iter().enumerate() {
             let sigma = st.s_m;
             if i > 0 {
                 let s0 = self.stations[i - 1].s_m;
                 let half = 0.5 * (sigma - s0);
-                let mut ds = 0.0;
                 for (node, w) in GL8 {
                     let (_, dy, _) = lateral_offset(shift_m, a, len, s0 + half * (node + 1.0));
-                    ds += half * w * (1.0 + dy * dy).sqrt();
+                    let d2 = dy * dy;
+                    excess += half * w * d2 / ((1.0 + d2).sqrt() + 1.0);
                 }
-                s_true += ds;
             }
+            let s_true = sigma + excess;
             let (y, dy, ddy) = lateral_offset(shift_m, a, len, sigma);
             let (sn, cs) = st.pitch_rad.sin_cos();
             // Planar curvature of the profile (κ about the left axis of the unshifted loop).

@@ -360,7 +360,11 @@ impl EnvelopeReport {
 
 /// A level line as text, e.g. "normal above 5.000 g for at most 1.000 s: longest 0.812 s (car 0) — ok".
 pub fn describe_level(l: &LevelResult) -> String {
-    let side = if l.bound == Bound::Above { "above" } else { "below" };
+    let side = if l.bound == Bound::Above {
+        "above"
+    } else {
+        "below"
+    };
     let allowed = if l.allowed_s == 0.0 {
         "(absolute)".to_string()
     } else {
@@ -372,7 +376,11 @@ pub fn describe_level(l: &LevelResult) -> String {
         "never beyond".to_string()
     };
     let verdict = if l.pass { "ok" } else { "FAIL" };
-    format!("{} {side} {:.3} g {allowed}: {got} — {verdict}", l.axis.name(), l.level_g)
+    format!(
+        "{} {side} {:.3} g {allowed}: {got} — {verdict}",
+        l.axis.name(),
+        l.level_g
+    )
 }
 
 /// An onset line as text.
