@@ -23,11 +23,7 @@ pub const EXIT_INFEASIBLE: i32 = 3;
 pub const EXIT_IO: i32 = 4;
 
 #[derive(Debug, Parser)]
-#[command(
-    name = "loopwright",
-    version,
-    about = "Vertical-loop geometry for roller-coaster concept studies."
-)]
+#[command(name = "loopwright", version, about = "Vertical-loop geometry for roller-coaster concept studies.")]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -147,17 +143,13 @@ impl CliError {
 
 impl From<BriefError> for CliError {
     fn from(e: BriefError) -> Self {
-        CliError::Usage(format!(
-            "{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"
-        ))
+        CliError::Usage(format!("{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"))
     }
 }
 
 impl From<ExportError> for CliError {
     fn from(e: ExportError) -> Self {
-        CliError::Io(format!(
-            "{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"
-        ))
+        CliError::Io(format!("{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"))
     }
 }
 
@@ -178,8 +170,7 @@ pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
                     meta.len()
                 )));
             }
-            std::fs::read_to_string(p)
-                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
+            std::fs::read_to_string(p).map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
         }
     };
     BriefInput::from_toml(&text).map_err(|e| {
