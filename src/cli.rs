@@ -100,7 +100,8 @@ pub struct BriefArgs {
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub lateral_shift: Option<f64>,
     /// Duration-based acceleration limits (TOML, see examples/limits-illustrative.toml); a design
-    /// failing them exits 3. Without it the ILLUSTRATIVE built-in table is reported, not enforced.
+    /// failing them exits 3, writing nothing. Without it the ILLUSTRATIVE built-in table is
+    /// reported, not enforced.
     #[arg(long, value_name = "FILE")]
     pub limits: Option<PathBuf>,
     /// File stem of the outputs (default: the brief's name).
@@ -245,26 +246,18 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
         .map(|f| read_limits_file(Path::new(f)))
         .transpose()?;
     let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
-    if let Some(t) = &table {
-        d.assess_envelope(t);
-    }
-    let written = write_design(&d, &args.out)?;
-    if table.is_some() && !d.envelope.pass {
+    let envelope = d.assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative())).clone();
+    // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
+    if table.is_some() && !envelope.pass {
         let mut reasons = vec![format!(
-            "the designed loop fails the acceleration envelope of {}",
+            "the best loop for the brief fails the acceleration envelope of {}",
             brief.limits_file.as_deref().unwrap_or("the limits file")
         )];
-        reasons.extend(d.envelope.failures());
-        reasons.push(format!(
-            "outputs were written to {} for inspection",
-            args.out.display()
-        ));
-        return Err(CliError::Infeasible(Box::new(Infeasible {
-            shape: d.best.kind,
-            reasons,
-            nearest: vec![],
-        })));
+        reasons.extend(envelope.failures());
+        reasons.push("run without --limits to write the design for inspection".into());
+        return Err(CliError::Infeasible(Box::new(Infeasible { shape: d.best.kind, reasons, nearest: vec![] })));
     }
+    let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());
     }

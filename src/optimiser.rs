@@ -56,6 +56,9 @@ pub struct Evaluation {
     /// Each car's figures (front first).
     pub cars: Vec<CarSummary>,
     pub verdict: Verdict,
+    /// The duration-based envelope check of every car, once assessed ([`Design::assess_envelope`];
+    /// the search itself does not evaluate it).
+    pub envelope: Option<EnvelopeReport>,
 }
 
 /// The result of a design run: the reported evaluation plus its finer re-check.
@@ -68,14 +71,14 @@ pub struct Design {
     pub verification: Evaluation,
     /// How many loops the search evaluated.
     pub evaluations: usize,
-    /// The duration-based envelope check of the verification ride (every car).
-    pub envelope: EnvelopeReport,
 }
 
 impl Design {
-    /// Re-check the design against another envelope table (e.g. a user's `--limits` file).
-    pub fn assess_envelope(&mut self, table: &EnvelopeTable) {
-        self.envelope = evaluate_envelope(table, &self.verification.path, &self.verification.train);
+    /// Check the verification ride (every car) against an envelope table, e.g. a user's `--limits`
+    /// file or [`EnvelopeTable::illustrative`]; the result is kept in `verification.envelope`.
+    pub fn assess_envelope(&mut self, table: &EnvelopeTable) -> &EnvelopeReport {
+        let v = &mut self.verification;
+        v.envelope.insert(evaluate_envelope(table, &v.path, &v.train))
     }
 }
 
@@ -129,7 +132,8 @@ pub fn evaluate(
     let (summary, cars) = summarise_train(&path, &train);
     let verdict = check(&summary, &Limits::from(brief));
     let ride = train.cars[0].clone();
-    Ok(Evaluation { kind, shape: shape.to_vec(), top_radius_m, spacing_m, profile, path, ride, train, summary, cars, verdict })
+    let envelope = None;
+    Ok(Evaluation { kind, shape: shape.to_vec(), top_radius_m, spacing_m, profile, path, ride, train, summary, cars, verdict, envelope })
 }
 
 /// The train a brief describes.
@@ -431,15 +435,15 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
     if !verification.verdict.pass || !best.verdict.pass {
         return Err(explain_failed_checks(brief, kind, &verification.verdict, &counter));
     }
-    let envelope = evaluate_envelope(&EnvelopeTable::illustrative(), &verification.path, &verification.train);
-    Ok(Design {
+    let mut d = Design {
         brief: brief.clone(),
         shape_labels: fam.shape_labels().to_vec(),
         best,
         verification,
         evaluations: counter.load(Ordering::Relaxed),
-        envelope,
-    })
+    };
+    d.assess_envelope(&EnvelopeTable::illustrative());
+    Ok(d)
 }
 
 fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {

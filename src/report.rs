@@ -79,28 +79,21 @@ pub fn train_and_envelope(d: &Design) -> String {
             ));
         }
     }
-    let e = &d.envelope;
+    let Some(e) = &d.verification.envelope else {
+        out.push_str("  acceleration envelope: not assessed\n");
+        return out;
+    };
     out.push_str(&format!(
         "  acceleration envelope: {}{} — {}\n",
         e.title,
-        if e.illustrative {
-            " [ILLUSTRATIVE; reported only unless --limits is given]"
-        } else {
-            ""
-        },
+        if e.illustrative { " [ILLUSTRATIVE values: verify against the governing standard]" } else { "" },
         if e.pass { "pass" } else { "FAIL" }
     ));
     for l in &e.levels {
-        out.push_str(&format!(
-            "    {}\n",
-            crate::checks::envelope::describe_level(l)
-        ));
+        out.push_str(&format!("    {}\n", crate::checks::envelope::describe_level(l)));
     }
     for o in &e.onsets {
-        out.push_str(&format!(
-            "    {}\n",
-            crate::checks::envelope::describe_onset(o)
-        ));
+        out.push_str(&format!("    {}\n", crate::checks::envelope::describe_onset(o)));
     }
     out
 }

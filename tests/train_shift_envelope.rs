@@ -374,6 +374,37 @@ fn hostile_limit_files_are_rejected_clearly() {
     assert_eq!(code, loopwright::cli::EXIT_IO);
 }
 
+/// A user's envelope that the demo design cannot meet (its loads stay above 2 g far longer than
+/// the 0.05 s this table allows; the demo's time above 3 g alone is about 0.9 s, see its report)
+/// makes `design --limits` exit 3 and write nothing, with the failing level in the message.
+#[test]
+fn a_failing_user_envelope_exits_infeasible() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("strict.toml");
+    std::fs::write(&f, "[normal]\nlevel = [{ duration_s = 0.05, max_g = 2.0, min_g = -1.0 }]").unwrap();
+    let out = dir.path().join("out");
+    let code = loopwright::cli::main_with_args([
+        "loopwright",
+        "design",
+        "--spacing",
+        "0.1",
+        "--limits",
+        f.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, loopwright::cli::EXIT_INFEASIBLE);
+    assert!(!out.exists());
+    // The same check in-process names the level and the run.
+    let mut b = Brief::demo();
+    b.spacing_m = 0.1;
+    let mut d = design_family(&b, ShapeKind::Clothoid).unwrap();
+    let rep = d.assess_envelope(&EnvelopeTable::from_toml(&std::fs::read_to_string(&f).unwrap()).unwrap()).clone();
+    let l = &rep.levels[0];
+    assert!(!l.pass && l.longest_s > 0.5, "{l:?}");
+    assert!(rep.failures()[0].contains("normal above 2.000 g for at most 0.050 s"));
+}
+
 /// Hostile train and shift values in a brief are refused with the field, value and range.
 #[test]
 fn hostile_train_and_shift_fields_are_rejected() {

@@ -45,8 +45,8 @@ pub struct Report<'a> {
     pub car_pitch_m: f64,
     /// Every car's figures (front first), from the verification run.
     pub per_car: &'a [CarSummary],
-    /// The duration-based envelope check, level by level.
-    pub envelope: &'a EnvelopeReport,
+    /// The duration-based envelope check, level by level (null if not assessed).
+    pub envelope: Option<&'a EnvelopeReport>,
 }
 
 /// Build the report of a design.
@@ -83,7 +83,7 @@ pub fn report(d: &Design) -> Report<'_> {
         cars: d.brief.cars,
         car_pitch_m: d.brief.car_pitch_m,
         per_car: &d.verification.cars,
-        envelope: &d.envelope,
+        envelope: d.verification.envelope.as_ref(),
     }
 }
 
