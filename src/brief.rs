@@ -56,7 +56,9 @@ impl ShapeKind {
             .find(|k| k.name() == text.trim().to_ascii_lowercase())
             .ok_or_else(|| BriefError {
                 field: "shape".into(),
-                message: format!("unknown shape family '{text}'; choose one of circle, clothoid, spline"),
+                message: format!(
+                    "unknown shape family '{text}'; choose one of circle, clothoid, spline"
+                ),
             })
     }
 }
@@ -186,16 +188,25 @@ pub mod defaults {
 }
 
 fn err(field: &str, message: impl Into<String>) -> BriefError {
-    BriefError { field: field.into(), message: message.into() }
+    BriefError {
+        field: field.into(),
+        message: message.into(),
+    }
 }
 
 /// Check a number is finite and within `[lo, hi]`; the message gives the unit and range.
 fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, BriefError> {
     if !value.is_finite() {
-        return Err(err(field, format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}")));
+        return Err(err(
+            field,
+            format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}"),
+        ));
     }
     if value < lo || value > hi {
-        return Err(err(field, format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}")));
+        return Err(err(
+            field,
+            format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}"),
+        ));
     }
     Ok(value)
 }
@@ -203,7 +214,8 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
 impl BriefInput {
     /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
     pub fn from_toml(text: &str) -> Result<Self, BriefError> {
-        toml::from_str(text).map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
+        toml::from_str(text)
+            .map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
     }
 
     /// Fields set in `over` replace those in `self` (flags over a file).
@@ -212,9 +224,27 @@ impl BriefInput {
             ($($f:ident),*) => { BriefInput { $($f: over.$f.or(self.$f)),* } };
         }
         pick!(
-            name, title, shape, entry_speed, max_g, min_top_g, max_onset_g_s, max_height_m,
-            min_radius_m, height_m, heartline_height_m, rolling_resistance, drag_area_m2, mass_kg,
-            air_density_kg_m3, lead_length_m, spacing_m, cars, car_pitch_m, lateral_shift_m, limits_file
+            name,
+            title,
+            shape,
+            entry_speed,
+            max_g,
+            min_top_g,
+            max_onset_g_s,
+            max_height_m,
+            min_radius_m,
+            height_m,
+            heartline_height_m,
+            rolling_resistance,
+            drag_area_m2,
+            mass_kg,
+            air_density_kg_m3,
+            lead_length_m,
+            spacing_m,
+            cars,
+            car_pitch_m,
+            lateral_shift_m,
+            limits_file
         )
     }
 
@@ -224,7 +254,9 @@ impl BriefInput {
         let name = self.name.clone().unwrap_or_else(|| "loop".to_string());
         if name.is_empty()
             || name.len() > 64
-            || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+            || !name
+                .chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
         {
             return Err(err(
                 "name",
@@ -246,11 +278,19 @@ impl BriefInput {
         };
         let entry_speed_m_s = in_range("entry_speed", entry_speed_m_s, 1.0, 150.0, "m/s")?;
         let max_g = in_range("max_g", self.max_g.unwrap_or(d::MAX_G), 1.0, 20.0, "g")?;
-        let min_top_g = in_range("min_top_g", self.min_top_g.unwrap_or(d::MIN_TOP_G), -1.5, 20.0, "g")?;
+        let min_top_g = in_range(
+            "min_top_g",
+            self.min_top_g.unwrap_or(d::MIN_TOP_G),
+            -1.5,
+            20.0,
+            "g",
+        )?;
         if min_top_g >= max_g {
             return Err(err(
                 "min_top_g",
-                format!("{min_top_g} g is not below max_g = {max_g} g; the top load must lie under the peak limit"),
+                format!(
+                    "{min_top_g} g is not below max_g = {max_g} g; the top load must lie under the peak limit"
+                ),
             ));
         }
         let max_onset_g_s = self
@@ -261,17 +301,27 @@ impl BriefInput {
             .max_height_m
             .map(|v| in_range("max_height_m", v, 0.5, 500.0, "m"))
             .transpose()?;
-        let min_radius_m = in_range("min_radius_m", self.min_radius_m.unwrap_or(d::MIN_RADIUS_M), 0.1, 500.0, "m")?;
+        let min_radius_m = in_range(
+            "min_radius_m",
+            self.min_radius_m.unwrap_or(d::MIN_RADIUS_M),
+            0.1,
+            500.0,
+            "m",
+        )?;
         let objective = match self.height_m {
             None => Objective::Tallest,
-            Some(h) => Objective::Height { height_m: in_range("height_m", h, 0.5, 500.0, "m")? },
+            Some(h) => Objective::Height {
+                height_m: in_range("height_m", h, 0.5, 500.0, "m")?,
+            },
         };
         if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m)
             && height_m > max_h
         {
             return Err(err(
                 "height_m",
-                format!("{height_m} m is above max_height_m = {max_h} m; the two contradict each other"),
+                format!(
+                    "{height_m} m is above max_height_m = {max_h} m; the two contradict each other"
+                ),
             ));
         }
         let heartline_height_m = in_range(
@@ -313,8 +363,20 @@ impl BriefInput {
                 0.5,
                 "(dimensionless)",
             )?,
-            drag_area_m2: in_range("drag_area_m2", self.drag_area_m2.unwrap_or(d::DRAG_AREA_M2), 0.0, 50.0, "m²")?,
-            mass_kg: in_range("mass_kg", self.mass_kg.unwrap_or(d::MASS_KG), 10.0, 1.0e6, "kg")?,
+            drag_area_m2: in_range(
+                "drag_area_m2",
+                self.drag_area_m2.unwrap_or(d::DRAG_AREA_M2),
+                0.0,
+                50.0,
+                "m²",
+            )?,
+            mass_kg: in_range(
+                "mass_kg",
+                self.mass_kg.unwrap_or(d::MASS_KG),
+                10.0,
+                1.0e6,
+                "kg",
+            )?,
             air_density_kg_m3: in_range(
                 "air_density_kg_m3",
                 self.air_density_kg_m3.unwrap_or(d::AIR_DENSITY_KG_M3),
@@ -322,8 +384,20 @@ impl BriefInput {
                 2.0,
                 "kg/m³",
             )?,
-            lead_length_m: in_range("lead_length_m", self.lead_length_m.unwrap_or(d::LEAD_LENGTH_M), 0.0, 200.0, "m")?,
-            spacing_m: in_range("spacing_m", self.spacing_m.unwrap_or(d::SPACING_M), 0.005, 1.0, "m")?,
+            lead_length_m: in_range(
+                "lead_length_m",
+                self.lead_length_m.unwrap_or(d::LEAD_LENGTH_M),
+                0.0,
+                200.0,
+                "m",
+            )?,
+            spacing_m: in_range(
+                "spacing_m",
+                self.spacing_m.unwrap_or(d::SPACING_M),
+                0.005,
+                1.0,
+                "m",
+            )?,
         })
     }
 }
@@ -335,20 +409,40 @@ impl BriefInput {
         let cars = match self.cars {
             None => d::CARS,
             Some(n) if (1..=40).contains(&n) => n as usize,
-            Some(n) => return Err(err("cars", format!("{n} is out of range; allowed 1 to 40 cars"))),
+            Some(n) => {
+                return Err(err(
+                    "cars",
+                    format!("{n} is out of range; allowed 1 to 40 cars"),
+                ));
+            }
         };
-        let car_pitch_m = in_range("car_pitch_m", self.car_pitch_m.unwrap_or(d::CAR_PITCH_M), 0.5, 20.0, "m")?;
+        let car_pitch_m = in_range(
+            "car_pitch_m",
+            self.car_pitch_m.unwrap_or(d::CAR_PITCH_M),
+            0.5,
+            20.0,
+            "m",
+        )?;
         let train_m = (cars - 1) as f64 * car_pitch_m;
         if train_m > 300.0 {
             return Err(err(
                 "car_pitch_m",
-                format!("{cars} cars at {car_pitch_m} m make a {train_m:.1} m train; allowed at most 300 m"),
+                format!(
+                    "{cars} cars at {car_pitch_m} m make a {train_m:.1} m train; allowed at most 300 m"
+                ),
             ));
         }
         let shift = self.lateral_shift_m.unwrap_or(d::LATERAL_SHIFT_M);
         let lateral_shift_m = in_range("lateral_shift_m", shift, -50.0, 50.0, "m")?;
-        if self.limits_file.as_ref().is_some_and(|f| f.trim().is_empty()) {
-            return Err(err("limits_file", "is empty; give the path of a TOML limit table"));
+        if self
+            .limits_file
+            .as_ref()
+            .is_some_and(|f| f.trim().is_empty())
+        {
+            return Err(err(
+                "limits_file",
+                "is empty; give the path of a TOML limit table",
+            ));
         }
         Ok((cars, car_pitch_m, lateral_shift_m, self.limits_file.clone()))
     }

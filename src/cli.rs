@@ -23,7 +23,11 @@ pub const EXIT_INFEASIBLE: i32 = 3;
 pub const EXIT_IO: i32 = 4;
 
 #[derive(Debug, Parser)]
-#[command(name = "loopwright", version, about = "Vertical-loop geometry for roller-coaster concept studies.")]
+#[command(
+    name = "loopwright",
+    version,
+    about = "Vertical-loop geometry for roller-coaster concept studies."
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -144,13 +148,17 @@ impl CliError {
 
 impl From<BriefError> for CliError {
     fn from(e: BriefError) -> Self {
-        CliError::Usage(format!("{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"))
+        CliError::Usage(format!(
+            "{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"
+        ))
     }
 }
 
 impl From<ExportError> for CliError {
     fn from(e: ExportError) -> Self {
-        CliError::Io(format!("{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"))
+        CliError::Io(format!(
+            "{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"
+        ))
     }
 }
 
@@ -171,7 +179,8 @@ pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
                     meta.len()
                 )));
             }
-            std::fs::read_to_string(p).map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
+            std::fs::read_to_string(p)
+                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
         }
     };
     BriefInput::from_toml(&text).map_err(|e| {
@@ -246,7 +255,9 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
         .map(|f| read_limits_file(Path::new(f)))
         .transpose()?;
     let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
-    let envelope = d.assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative())).clone();
+    let envelope = d
+        .assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative()))
+        .clone();
     // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
     if table.is_some() && !envelope.pass {
         let mut reasons = vec![format!(
@@ -255,7 +266,11 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
         )];
         reasons.extend(envelope.failures());
         reasons.push("run without --limits to write the design for inspection".into());
-        return Err(CliError::Infeasible(Box::new(Infeasible { shape: d.best.kind, reasons, nearest: vec![] })));
+        return Err(CliError::Infeasible(Box::new(Infeasible {
+            shape: d.best.kind,
+            reasons,
+            nearest: vec![],
+        })));
     }
     let written = write_design(&d, &args.out)?;
     if args.quiet {

@@ -99,7 +99,10 @@ pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64
         SegmentKind::Straight => (t * theta0.cos(), t * theta0.sin()),
         SegmentKind::Arc if k0.abs() > 1e-300 => {
             let th = theta0 + k0 * t;
-            ((th.sin() - theta0.sin()) / k0, (theta0.cos() - th.cos()) / k0)
+            (
+                (th.sin() - theta0.sin()) / k0,
+                (theta0.cos() - th.cos()) / k0,
+            )
         }
         SegmentKind::Clothoid => clothoid_displacement(theta0, k0, seg.coeffs[1], t)
             .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
@@ -133,7 +136,12 @@ pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f6
 }
 
 /// Displacement from local `t0` to `t1` by 8-point Gauss–Legendre on each of a few sub-intervals.
-pub fn quadrature_displacement(seg: &CurvatureSegment, theta0: f64, t0: f64, t1: f64) -> (f64, f64) {
+pub fn quadrature_displacement(
+    seg: &CurvatureSegment,
+    theta0: f64,
+    t0: f64,
+    t1: f64,
+) -> (f64, f64) {
     let parts = (((t1 - t0).abs() / 0.25).ceil() as usize).clamp(1, 100_000);
     let h = (t1 - t0) / parts as f64;
     let (mut dx, mut dz) = (0.0, 0.0);
@@ -153,7 +161,11 @@ impl Centreline {
     /// Sample `profile` every `spacing_m` or closer (every segment boundary is a station) and build
     /// heartline, rail and frames. At a curvature step the boundary appears twice, once with the
     /// curvature before and once after, so the step in load is visible in the table.
-    pub fn build(profile: &CurvatureProfile, heartline_height_m: f64, spacing_m: f64) -> Centreline {
+    pub fn build(
+        profile: &CurvatureProfile,
+        heartline_height_m: f64,
+        spacing_m: f64,
+    ) -> Centreline {
         let mut stations = Vec::new();
         let mut steps = Vec::new();
         let (mut x, mut z) = (0.0, 0.0);
@@ -170,7 +182,11 @@ impl Centreline {
             let first = match prev_end_curv {
                 None => 0,
                 Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
-                    steps.push(CurvatureStep { s_m: s0, before_1_m: k_prev, after_1_m: k_start });
+                    steps.push(CurvatureStep {
+                        s_m: s0,
+                        before_1_m: k_prev,
+                        after_1_m: k_start,
+                    });
                     piece += 1;
                     0
                 }
@@ -203,12 +219,21 @@ impl Centreline {
                     in_loop,
                 ));
             }
-            let (dx, dz) = if seg.kind == SegmentKind::Cubic { acc } else { segment_displacement(seg, theta0, seg.length_m) };
+            let (dx, dz) = if seg.kind == SegmentKind::Cubic {
+                acc
+            } else {
+                segment_displacement(seg, theta0, seg.length_m)
+            };
             x += dx;
             z += dz;
             prev_end_curv = Some(seg.curvature_1_m(seg.length_m));
         }
-        Centreline { stations, steps, heartline_height_m, loop_span_m }
+        Centreline {
+            stations,
+            steps,
+            heartline_height_m,
+            loop_span_m,
+        }
     }
 
     /// The highest heartline station.
@@ -232,7 +257,11 @@ impl Centreline {
 
     /// Height of the rail's highest point above the rail at entry, m.
     pub fn rail_height_m(&self) -> f64 {
-        let top = self.stations.iter().map(|s| s.rail_m.z).fold(f64::MIN, f64::max);
+        let top = self
+            .stations
+            .iter()
+            .map(|s| s.rail_m.z)
+            .fold(f64::MIN, f64::max);
         top - self.stations[0].rail_m.z
     }
 
@@ -243,7 +272,11 @@ impl Centreline {
 
     /// Smallest heartline radius of curvature on the loop, m.
     pub fn min_radius_m(&self) -> f64 {
-        1.0 / self.stations.iter().map(|s| s.curvature_vec_1_m.norm()).fold(0.0, f64::max)
+        1.0 / self
+            .stations
+            .iter()
+            .map(|s| s.curvature_vec_1_m.norm())
+            .fold(0.0, f64::max)
     }
 }
 
@@ -416,11 +449,18 @@ mod tests {
     // Euler spiral; they must agree to near machine precision (numerical analysis, no source needed).
     #[test]
     fn fresnel_and_quadrature_agree_on_clothoids() {
-        for &(theta0, k0, c, t) in &[(0.0, 0.0, 0.01, 30.0), (1.0, 0.1, -0.004, 25.0), (2.5, 0.05, 0.002, 12.0)] {
+        for &(theta0, k0, c, t) in &[
+            (0.0, 0.0, 0.01, 30.0),
+            (1.0, 0.1, -0.004, 25.0),
+            (2.5, 0.05, 0.002, 12.0),
+        ] {
             let seg = CurvatureSegment::clothoid(t, k0, k0 + c * t);
             let (fx, fz) = clothoid_displacement(theta0, k0, c, t).unwrap();
             let (qx, qz) = quadrature_displacement(&seg, theta0, 0.0, t);
-            assert!((fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10, "{fx} {qx} {fz} {qz}");
+            assert!(
+                (fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10,
+                "{fx} {qx} {fz} {qz}"
+            );
         }
     }
 
@@ -429,10 +469,16 @@ mod tests {
     fn loops_leave_level_at_entry_height() {
         for kind in ShapeKind::ALL {
             let f = family(kind);
-            let p = f.curvature_with_leads(&f.default_shape(), 8.0, 5.0).unwrap();
+            let p = f
+                .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
+                .unwrap();
             let c = Centreline::build(&p, 1.1, 0.05);
             let last = c.stations.last().unwrap();
-            assert!(last.heartline_m.z.abs() < 1e-9, "{kind}: exit z = {}", last.heartline_m.z);
+            assert!(
+                last.heartline_m.z.abs() < 1e-9,
+                "{kind}: exit z = {}",
+                last.heartline_m.z
+            );
             assert!((last.pitch_rad - 2.0 * PI).abs() < 1e-12);
             // The rail sits heartline_height below the heartline on level track.
             assert!((last.rail_m.z + 1.1).abs() < 1e-12);

@@ -17,7 +17,10 @@ fn demo_dxf_passes_ezdxf_audit() {
     let design = design(&Brief::demo()).expect("the demo brief is feasible");
     let stations = design.best.path.stations.len();
     // The demo must not be thinned, or the vertex-count check below would not test "every station".
-    assert!(stations <= loopwright::export::dxf::MAX_VERTICES, "demo has {stations} stations");
+    assert!(
+        stations <= loopwright::export::dxf::MAX_VERTICES,
+        "demo has {stations} stations"
+    );
 
     let dir = tempfile::tempdir().expect("temp dir");
     let file = dir.path().join("demo.dxf");
@@ -33,13 +36,25 @@ fn demo_dxf_passes_ezdxf_audit() {
         .arg(format!("{:.12}", design.best.summary.loop_height_m))
         .arg(CAUTION)
         .output()
-        .expect("python3 must be on PATH to run the DXF audit; pip install -r tests/requirements.txt");
+        .expect(
+            "python3 must be on PATH to run the DXF audit; pip install -r tests/requirements.txt",
+        );
     let stdout = String::from_utf8_lossy(&out.stdout);
     let stderr = String::from_utf8_lossy(&out.stderr);
     print!("{stdout}");
     eprint!("{stderr}");
     // Exit code 2 is the script's "ezdxf missing": fail loudly, never skip.
-    assert_ne!(out.status.code(), Some(2), "ezdxf is not installed: pip install -r tests/requirements.txt");
-    assert!(out.status.success(), "ezdxf audit of the DXF failed:\n{stdout}{stderr}");
-    assert!(stdout.lines().any(|l| l == "PASS"), "audit script did not report PASS:\n{stdout}");
+    assert_ne!(
+        out.status.code(),
+        Some(2),
+        "ezdxf is not installed: pip install -r tests/requirements.txt"
+    );
+    assert!(
+        out.status.success(),
+        "ezdxf audit of the DXF failed:\n{stdout}{stderr}"
+    );
+    assert!(
+        stdout.lines().any(|l| l == "PASS"),
+        "audit script did not report PASS:\n{stdout}"
+    );
 }

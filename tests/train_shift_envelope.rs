@@ -381,7 +381,11 @@ fn hostile_limit_files_are_rejected_clearly() {
 fn a_failing_user_envelope_exits_infeasible() {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join("strict.toml");
-    std::fs::write(&f, "[normal]\nlevel = [{ duration_s = 0.05, max_g = 2.0, min_g = -1.0 }]").unwrap();
+    std::fs::write(
+        &f,
+        "[normal]\nlevel = [{ duration_s = 0.05, max_g = 2.0, min_g = -1.0 }]",
+    )
+    .unwrap();
     let out = dir.path().join("out");
     let code = loopwright::cli::main_with_args([
         "loopwright",
@@ -399,7 +403,9 @@ fn a_failing_user_envelope_exits_infeasible() {
     let mut b = Brief::demo();
     b.spacing_m = 0.1;
     let mut d = design_family(&b, ShapeKind::Clothoid).unwrap();
-    let rep = d.assess_envelope(&EnvelopeTable::from_toml(&std::fs::read_to_string(&f).unwrap()).unwrap()).clone();
+    let rep = d
+        .assess_envelope(&EnvelopeTable::from_toml(&std::fs::read_to_string(&f).unwrap()).unwrap())
+        .clone();
     let l = &rep.levels[0];
     assert!(!l.pass && l.longest_s > 0.5, "{l:?}");
     assert!(rep.failures()[0].contains("normal above 2.000 g for at most 0.050 s"));

@@ -5,5 +5,8 @@ use crate::optimiser::Design;
 
 /// DXF bytes of the design.
 pub fn dxf_bytes(_design: &Design) -> Result<Vec<u8>, ExportError> {
-    Err(ExportError::Encode { what: "DXF", message: "not implemented yet".into() })
+    Err(ExportError::Encode {
+        what: "DXF",
+        message: "not implemented yet".into(),
+    })
 }

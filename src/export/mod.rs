@@ -26,16 +26,29 @@ use crate::optimiser::Design;
 #[derive(Debug, thiserror::Error)]
 pub enum ExportError {
     #[error("cannot write {path}: {source}")]
-    Io { path: PathBuf, source: std::io::Error },
+    Io {
+        path: PathBuf,
+        source: std::io::Error,
+    },
     #[error("cannot encode {what}: {message}")]
     Encode { what: &'static str, message: String },
 }
 
 /// Write `bytes` to `path` atomically: a temporary file in the same folder, then a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
-    let io = |source| ExportError::Io { path: path.to_path_buf(), source };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let mut tmp = tempfile::Builder::new().prefix(".loopwright-").suffix(".tmp").tempfile_in(dir).map_err(io)?;
+    let io = |source| ExportError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".loopwright-")
+        .suffix(".tmp")
+        .tempfile_in(dir)
+        .map_err(io)?;
     tmp.write_all(bytes).map_err(io)?;
     tmp.as_file().sync_all().map_err(io)?;
     tmp.persist(path).map_err(|e| io(e.error))?;
@@ -48,8 +61,14 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
     let name = &design.brief.name;
     Ok(vec![
         (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
-        (format!("{name}.svg"), svg::elevation_svg(design).into_bytes()),
-        (format!("{name}-loads.svg"), plot::loads_svg(design).into_bytes()),
+        (
+            format!("{name}.svg"),
+            svg::elevation_svg(design).into_bytes(),
+        ),
+        (
+            format!("{name}-loads.svg"),
+            plot::loads_svg(design).into_bytes(),
+        ),
         (format!("{name}-loads.csv"), table::loads_csv(design)?),
         (format!("{name}-cars.csv"), table::cars_csv(design)?),
         (format!("{name}.json"), json::report_json(design)?),
@@ -59,7 +78,10 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
 /// Encode and write every output of a design into `out_dir` (created if missing).
 pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
     let files = design_files(design)?;
-    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io { path: out_dir.to_path_buf(), source })?;
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
     let mut written = Vec::new();
     for (name, bytes) in files {
         let path = out_dir.join(name);

@@ -5,16 +5,39 @@ use crate::optimiser::Design;
 
 /// Column names; units are in each name.
 pub const COLUMNS: [&str; 16] = [
-    "s_m", "x_m", "y_m", "z_m", "pitch_deg", "curvature_1_m", "speed_m_s", "time_s", "normal_g", "tangential_g",
-    "lateral_g", "onset_g_s", "rail_x_m", "rail_z_m", "rail_y_m", "roll_deg",
+    "s_m",
+    "x_m",
+    "y_m",
+    "z_m",
+    "pitch_deg",
+    "curvature_1_m",
+    "speed_m_s",
+    "time_s",
+    "normal_g",
+    "tangential_g",
+    "lateral_g",
+    "onset_g_s",
+    "rail_x_m",
+    "rail_z_m",
+    "rail_y_m",
+    "roll_deg",
 ];
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
 pub fn loads_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
-    let enc = |e: csv::Error| ExportError::Encode { what: "loads table", message: e.to_string() };
+    let enc = |e: csv::Error| ExportError::Encode {
+        what: "loads table",
+        message: e.to_string(),
+    };
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(COLUMNS).map_err(enc)?;
-    for (st, p) in design.best.path.stations.iter().zip(&design.best.ride.points) {
+    for (st, p) in design
+        .best
+        .path
+        .stations
+        .iter()
+        .zip(&design.best.ride.points)
+    {
         let h = st.heartline_m;
         let rec = [
             st.s_m,
@@ -34,9 +57,13 @@ pub fn loads_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
             st.rail_m.y,
             st.roll_rad().to_degrees(),
         ];
-        w.write_record(rec.iter().map(|v| format!("{v:.9}"))).map_err(enc)?;
+        w.write_record(rec.iter().map(|v| format!("{v:.9}")))
+            .map_err(enc)?;
     }
-    w.into_inner().map_err(|e| ExportError::Encode { what: "loads table", message: e.to_string() })
+    w.into_inner().map_err(|e| ExportError::Encode {
+        what: "loads table",
+        message: e.to_string(),
+    })
 }
 
 /// Column names of the per-car table; units are in each name.
