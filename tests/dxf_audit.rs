@@ -26,7 +26,6 @@ fn demo_dxf_passes_ezdxf_audit() {
     let file = dir.path().join("demo.dxf");
     std::fs::write(&file, dxf_bytes(&design).expect("DXF encodes")).expect("write DXF");
 
-    std::fs::copy(&file, "/tmp/lw/demo.dxf").unwrap(); // TEMP
     let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/py/audit_dxf.py");
     // independent reader: ezdxf (PyPI)
     let out = Command::new("python3")

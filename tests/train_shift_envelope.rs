@@ -497,10 +497,9 @@ fn design_constrains_the_worst_car() {
     );
 }
 
-/// Issue floor: the DXF of a shifted loop passes the ezdxf audit and spans the shift in Y.
-/// Needs the DXF exporter (being written on main; a placeholder in this branch).
+/// Issue floor: the DXF of a shifted loop passes the ezdxf audit (an independent reader, PyPI)
+/// and its heartline spans the shift in Y, i.e. the polylines are truly 3D.
 #[test]
-#[ignore = "needs DXF exporter from main"]
 fn shifted_loop_dxf_is_3d_and_passes_ezdxf_audit() {
     let mut b = Brief::demo();
     b.lateral_shift_m = 3.0;

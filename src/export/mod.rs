@@ -36,6 +36,10 @@ pub enum ExportError {
 
 /// Write `bytes` to `path` atomically: a temporary file in the same folder, then a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
+    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+}
+
+fn staged(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, ExportError> {
     let io = |source| ExportError::Io {
         path: path.to_path_buf(),
         source,
@@ -50,8 +54,41 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
         .tempfile_in(dir)
         .map_err(io)?;
     tmp.write_all(bytes).map_err(io)?;
+    // Temporary files are created private (0600); outputs are ordinary documents for a team.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        tmp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(0o644))
+            .map_err(io)?;
+    }
     tmp.as_file().sync_all().map_err(io)?;
-    tmp.persist(path).map_err(|e| io(e.error))?;
+    Ok(tmp)
+}
+
+/// Write several files as one step: every file is first written in full to a temporary file beside
+/// its target (a full disk or unwritable folder fails here, and the temporaries are removed), the
+/// targets are checked to be replaceable, and only then is each renamed over its target. A run that
+/// fails therefore leaves every earlier output as it was.
+pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError> {
+    let mut temps = Vec::with_capacity(files.len());
+    for (path, bytes) in files {
+        temps.push((path, staged(path, bytes)?));
+    }
+    for (path, _) in &temps {
+        if path.is_dir() {
+            return Err(ExportError::Io {
+                path: path.to_path_buf(),
+                source: std::io::Error::other("a folder of that name is in the way"),
+            });
+        }
+    }
+    for (path, tmp) in temps {
+        tmp.persist(path).map_err(|e| ExportError::Io {
+            path: path.to_path_buf(),
+            source: e.error,
+        })?;
+    }
     Ok(())
 }
 
@@ -82,11 +119,11 @@ pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, Exp
         path: out_dir.to_path_buf(),
         source,
     })?;
-    let mut written = Vec::new();
-    for (name, bytes) in files {
-        let path = out_dir.join(name);
-        write_atomic(&path, &bytes)?;
-        written.push(path);
-    }
+    let files: Vec<(PathBuf, Vec<u8>)> = files
+        .into_iter()
+        .map(|(n, b)| (out_dir.join(n), b))
+        .collect();
+    write_all_atomic(&files)?;
+    let written = files.into_iter().map(|(p, _)| p).collect();
     Ok(written)
 }
