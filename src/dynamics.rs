@@ -283,64 +283,59 @@ pub fn simulate_train(
     }
     keyed.sort_by(|a, b| a.0.total_cmp(&b.0));
     let entries: Vec<(f64, usize, usize)> = keyed.into_iter().map(|(_, e)| e).collect();
-    // Every car's place at every entry; the car named by the entry is exactly on its station.
-    let places: Vec<Vec<CarPlace>> = entries
-        .iter()
-        .map(|&(s_lead, jj, i)| {
-            (0..cars)
-                .map(|k| {
-                    if k == jj {
-                        CarPlace {
-                            z_m: st[i].heartline_m.z,
-                            tangent: st[i].tangent,
-                            kvec: st[i].curvature_vec_1_m,
-                        }
-                    } else {
-                        place_at(path, s_lead - k as f64 * pitch)
-                    }
-                })
-                .collect()
-        })
-        .collect();
+    // Every car's place at an entry (computed as the integration reaches it, so memory stays
+    // O(entries)); the car named by the entry is exactly on its station.
+    let place_all = |e: usize, buf: &mut Vec<CarPlace>| {
+        let (s_lead, jj, i) = entries[e];
+        buf.clear();
+        buf.extend((0..cars).map(|k| {
+            if k == jj {
+                CarPlace {
+                    z_m: st[i].heartline_m.z,
+                    tangent: st[i].tangent,
+                    kvec: st[i].curvature_vec_1_m,
+                }
+            } else {
+                place_at(path, s_lead - k as f64 * pitch)
+            }
+        }));
+    };
+    let mean =
+        |buf: &[CarPlace], f: &dyn Fn(&CarPlace) -> f64| buf.iter().map(f).sum::<f64>() / ncars;
     let m = entries.len();
-    let zbar: Vec<f64> = places
-        .iter()
-        .map(|p| p.iter().map(|c| c.z_m).sum::<f64>() / ncars)
-        .collect();
-    let tzbar: Vec<f64> = places
-        .iter()
-        .map(|p| p.iter().map(|c| c.tangent.z).sum::<f64>() / ncars)
-        .collect();
     let v0sq = cond.entry_speed_m_s * cond.entry_speed_m_s;
-    let z0 = zbar[0];
     let (mu, k) = (cond.rolling_resistance, cond.drag_per_metre);
-    let loss_rate = |u: f64, e: usize| {
-        let load: f64 = places[e]
-            .iter()
-            .map(|c| perpendicular_force(u, &c.kvec, &c.tangent).norm())
-            .sum::<f64>()
-            / ncars;
+    let loss_rate = |u: f64, buf: &[CarPlace]| {
+        let load = mean(buf, &|c| perpendicular_force(u, &c.kvec, &c.tangent).norm());
         2.0 * mu * load + k * u
     };
+    let mut buf = Vec::with_capacity(cars);
     let mut u = vec![0.0; m];
     let mut rate = vec![0.0; m];
+    let mut tzbar = vec![0.0; m];
     let mut losses = 0.0;
+    place_all(0, &mut buf);
+    let z0 = mean(&buf, &|c| c.z_m);
+    tzbar[0] = mean(&buf, &|c| c.tangent.z);
     u[0] = v0sq;
-    rate[0] = loss_rate(v0sq, 0);
+    rate[0] = loss_rate(v0sq, &buf);
     for e in 1..m {
+        place_all(e, &mut buf);
+        let zbar = mean(&buf, &|c| c.z_m);
+        tzbar[e] = mean(&buf, &|c| c.tangent.z);
         let ds = entries[e].0 - entries[e - 1].0;
-        let u_free = v0sq - 2.0 * G * (zbar[e] - z0);
+        let u_free = v0sq - 2.0 * G * (zbar - z0);
         let pred = u_free - (losses + ds * rate[e - 1]);
-        let r_pred = loss_rate(pred.max(0.0), e);
+        let r_pred = loss_rate(pred.max(0.0), &buf);
         losses += 0.5 * ds * (rate[e - 1] + r_pred);
         u[e] = u_free - losses;
         if u[e] <= 0.0 {
             return Err(Stall {
                 s_m: entries[e].0,
-                height_m: zbar[e] - z0,
+                height_m: zbar - z0,
             });
         }
-        rate[e] = loss_rate(u[e], e);
+        rate[e] = loss_rate(u[e], &buf);
     }
     let mut time = vec![0.0; m];
     for e in 1..m {

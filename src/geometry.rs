@@ -334,7 +334,8 @@ impl Station {
     /// Roll of the rider's cross-axis from horizontal, rad: asin(left · ẑ). Positive means the
     /// rider's right side is down (the aircraft convention). Zero everywhere on a planar loop.
     pub fn roll_rad(&self) -> f64 {
-        self.left.z.clamp(-1.0, 1.0).asin()
+        // + 0.0 turns −0 into 0, so tables do not print "-0.000" on level track.
+        self.left.z.clamp(-1.0, 1.0).asin() + 0.0
     }
 }
 
