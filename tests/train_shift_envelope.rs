@@ -528,3 +528,38 @@ fn plot_lines_describe_each_level() {
         .unwrap();
     assert!(!six.pass && six.run_s_m.is_some() && six.label.contains("FAIL"));
 }
+
+/// The point of the shift: a planar loop runs into itself (its side view crosses where the exit
+/// passes the entry climb), a shifted one passes beside itself. Measured as the smallest 3D
+/// distance between heartline points more than half a loop apart along the track (first
+/// principles; the smootherstep puts the two branches almost a full shift apart at the crossing).
+#[test]
+fn shifted_loop_clears_itself_and_planar_does_not() {
+    let f = family(ShapeKind::Clothoid);
+    let p = f
+        .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
+        .unwrap();
+    let clearance = |shift: f64| {
+        let c = Centreline::build_shifted(&p, 1.1, 0.1, shift);
+        let half = 0.5 * c.loop_length_m();
+        let st = &c.stations;
+        let mut best = f64::MAX;
+        for a in st {
+            for b in st.iter().filter(|b| b.s_m - a.s_m > half) {
+                best = best.min((a.heartline_m - b.heartline_m).norm());
+            }
+        }
+        best
+    };
+    let planar = clearance(0.0);
+    let shifted = clearance(2.5);
+    eprintln!("closest approach: planar {planar:.4} m, shifted {shifted:.4} m");
+    assert!(
+        planar < 0.2,
+        "the planar loop should meet itself, closest {planar} m"
+    );
+    assert!(
+        shifted > 0.9 * 2.5 && shifted <= 2.5 + 1e-9,
+        "shifted closest {shifted} m"
+    );
+}
