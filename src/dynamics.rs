@@ -25,11 +25,11 @@
 //! u = v₀² − 2g·(z̄ − z̄₀) − D exactly as for the point mass. Each car feels f = a − g⃗ at its own
 //! place: normal and lateral from v² and its own curvature, and forward a_t + g·sin θⱼ with the
 //! common a_t = ½ du/ds, i.e. g·(sin θⱼ − mean sin θ) − (losses)/2 — the couplers push the cars
-//! still climbing and hold back those already falling. This is the standard rigid-train
-//! treatment (derived here from the energy balance; the same chain-of-masses model appears in the
-//! physics-education literature on coaster trains, e.g. Pendrill, "Rollercoaster loop shapes",
-//! Physics Education 40 (2005) — cited from memory, check the exact treatment there). With one car
-//! it is the point-mass model, operation for operation.
+//! still climbing and hold back those already falling. The model is derived here from the energy
+//! balance of a rigid, inextensible chain of equal masses (first principles). Train-length effects
+//! on coaster loads are discussed in the physics-education literature (e.g. A.-M. Pendrill's
+//! roller-coaster papers in Physics Education — cited from memory, not checked against the text).
+//! With one car it is the point-mass model, operation for operation.
 //!
 //! Cars not on the sampled path (behind the entry while the lead car is near it, or past the exit
 //! while the rear car finishes) run on a straight continuation of the first or last station's
