@@ -110,6 +110,10 @@ pub struct BriefInput {
     pub air_density_kg_m3: Option<f64>,
     pub lead_length_m: Option<f64>,
     pub spacing_m: Option<f64>,
+    pub cars: Option<i64>,
+    pub car_pitch_m: Option<f64>,
+    pub lateral_shift_m: Option<f64>,
+    pub limits_file: Option<String>,
 }
 
 /// A complete, checked brief in SI units.
@@ -132,6 +136,15 @@ pub struct Brief {
     pub air_density_kg_m3: f64,
     pub lead_length_m: f64,
     pub spacing_m: f64,
+    /// Cars in the train (1: the point-mass model). `mass_kg` is the whole train, shared equally.
+    pub cars: usize,
+    /// Heartline distance between neighbouring cars, m.
+    pub car_pitch_m: f64,
+    /// Sideways spread of the loop so the exit passes beside the entry, m (positive: to the
+    /// rider's left; 0: planar loop).
+    pub lateral_shift_m: f64,
+    /// Duration-based limit table (TOML) for the envelope check; `None`: the built-in ILLUSTRATIVE one.
+    pub limits_file: Option<String>,
 }
 
 /// A field of the brief that cannot be used, and why.
@@ -164,6 +177,14 @@ pub mod defaults {
     pub const LEAD_LENGTH_M: f64 = 5.0;
     /// Heartline sample spacing for the reported design.
     pub const SPACING_M: f64 = 0.05;
+    /// One car: the point-mass model.
+    pub const CARS: usize = 1;
+    /// Car pitch, m (illustrative; from memory, coaster cars are of the order of 2-3 m long).
+    pub const CAR_PITCH_M: f64 = 2.5;
+    /// Lateral shift, m: one train envelope width, so that the envelopes of the entry and exit
+    /// trains (each this wide, centred on its track) just clear each other where the tracks pass.
+    /// 2.5 m is a car about 1.5–2 m wide plus clearance (common practice, no source; illustrative).
+    pub const LATERAL_SHIFT_M: f64 = 2.5;
 }
 
 fn err(field: &str, message: impl Into<String>) -> BriefError {
@@ -219,7 +240,11 @@ impl BriefInput {
             mass_kg,
             air_density_kg_m3,
             lead_length_m,
-            spacing_m
+            spacing_m,
+            cars,
+            car_pitch_m,
+            lateral_shift_m,
+            limits_file
         )
     }
 
@@ -314,7 +339,12 @@ impl BriefInput {
                 ),
             ));
         }
+        let (cars, car_pitch_m, lateral_shift_m, limits_file) = self.resolve_train_and_shift()?;
         Ok(Brief {
+            cars,
+            car_pitch_m,
+            lateral_shift_m,
+            limits_file,
             name,
             title,
             shape,
@@ -369,6 +399,52 @@ impl BriefInput {
                 "m",
             )?,
         })
+    }
+}
+
+impl BriefInput {
+    /// The train, lateral-shift and limits-file fields, checked.
+    fn resolve_train_and_shift(&self) -> Result<(usize, f64, f64, Option<String>), BriefError> {
+        use defaults as d;
+        let cars = match self.cars {
+            None => d::CARS,
+            Some(n) if (1..=40).contains(&n) => n as usize,
+            Some(n) => {
+                return Err(err(
+                    "cars",
+                    format!("{n} is out of range; allowed 1 to 40 cars"),
+                ));
+            }
+        };
+        let car_pitch_m = in_range(
+            "car_pitch_m",
+            self.car_pitch_m.unwrap_or(d::CAR_PITCH_M),
+            0.5,
+            20.0,
+            "m",
+        )?;
+        let train_m = (cars - 1) as f64 * car_pitch_m;
+        if train_m > 300.0 {
+            return Err(err(
+                "car_pitch_m",
+                format!(
+                    "{cars} cars at {car_pitch_m} m make a {train_m:.1} m train; allowed at most 300 m"
+                ),
+            ));
+        }
+        let shift = self.lateral_shift_m.unwrap_or(d::LATERAL_SHIFT_M);
+        let lateral_shift_m = in_range("lateral_shift_m", shift, -50.0, 50.0, "m")?;
+        if self
+            .limits_file
+            .as_ref()
+            .is_some_and(|f| f.trim().is_empty())
+        {
+            return Err(err(
+                "limits_file",
+                "is empty; give the path of a TOML limit table",
+            ));
+        }
+        Ok((cars, car_pitch_m, lateral_shift_m, self.limits_file.clone()))
     }
 }
 

@@ -8,6 +8,7 @@ use clap::{Args, Parser, Subcommand};
 use std::path::{Path, PathBuf};
 
 use crate::brief::{Brief, BriefError, BriefInput, DEMO_BRIEF_TOML, SpeedText};
+use crate::checks::envelope::{EnvelopeTable, MAX_LIMITS_BYTES};
 use crate::export::{ExportError, write_design};
 use crate::optimiser::{Infeasible, design};
 use crate::report::{infeasible_message, terminal_summary};
@@ -92,6 +93,21 @@ pub struct BriefArgs {
     /// Heartline sample spacing of the reported design, m.
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub spacing: Option<f64>,
+    /// Cars in the train (default 1: a point mass); the train moves as one rigid chain.
+    #[arg(long, value_name = "N", allow_hyphen_values = true)]
+    pub cars: Option<i64>,
+    /// Heartline distance between neighbouring cars, m (default 2.5 m, illustrative).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub car_pitch: Option<f64>,
+    /// Spread the loop sideways so the exit passes beside the entry, m (default 2.5 m: one train
+    /// envelope width; 0 for a planar loop; negative to the right).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub lateral_shift: Option<f64>,
+    /// Duration-based acceleration limits (TOML, see examples/limits-illustrative.toml); a design
+    /// failing them exits 3, writing nothing. Without it the ILLUSTRATIVE built-in table is
+    /// reported, not enforced.
+    #[arg(long, value_name = "FILE")]
+    pub limits: Option<PathBuf>,
     /// File stem of the outputs (default: the brief's name).
     #[arg(long)]
     pub name: Option<String>,
@@ -194,6 +210,10 @@ impl BriefArgs {
             air_density_kg_m3: self.air_density,
             lead_length_m: self.lead_length,
             spacing_m: self.spacing,
+            cars: self.cars,
+            car_pitch_m: self.car_pitch,
+            lateral_shift_m: self.lateral_shift,
+            limits_file: self.limits.as_ref().map(|p| p.display().to_string()),
         }
     }
 
@@ -204,10 +224,54 @@ impl BriefArgs {
     }
 }
 
+/// Read and check a duration-based limit table (`--limits` / `limits_file`).
+pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
+    let meta = std::fs::metadata(path)
+        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
+    if meta.len() > MAX_LIMITS_BYTES {
+        return Err(CliError::Usage(format!(
+            "limits file {} is {} bytes; a limit table is a small TOML file (at most {MAX_LIMITS_BYTES} bytes)",
+            path.display(),
+            meta.len()
+        )));
+    }
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
+    EnvelopeTable::from_toml(&text).map_err(|e| {
+        CliError::Usage(format!(
+            "{}: {e}\nhint: see examples/limits-illustrative.toml for the format",
+            path.display()
+        ))
+    })
+}
+
 /// Run `design`: returns the text for standard output.
 pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     let brief = args.brief.resolve()?;
-    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    // Read the limit table before the search, so a bad file fails fast.
+    let table = brief
+        .limits_file
+        .as_deref()
+        .map(|f| read_limits_file(Path::new(f)))
+        .transpose()?;
+    let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    let envelope = d
+        .assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative()))
+        .clone();
+    // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
+    if table.is_some() && !envelope.pass {
+        let mut reasons = vec![format!(
+            "the best loop for the brief fails the acceleration envelope of {}",
+            brief.limits_file.as_deref().unwrap_or("the limits file")
+        )];
+        reasons.extend(envelope.failures());
+        reasons.push("run without --limits to write the design for inspection".into());
+        return Err(CliError::Infeasible(Box::new(Infeasible {
+            shape: d.best.kind,
+            reasons,
+            nearest: vec![],
+        })));
+    }
     let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());

@@ -26,8 +26,11 @@ use std::fmt;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use crate::brief::{Brief, Objective, ShapeKind};
-use crate::checks::{Limits, Summary, Verdict, check, onset_for_limit, summarise};
-use crate::dynamics::{Conditions, Ride, Stall, simulate};
+use crate::checks::envelope::{EnvelopeReport, EnvelopeTable, evaluate as evaluate_envelope};
+use crate::checks::{
+    CarSummary, Limits, Summary, Verdict, check, onset_for_limit, summarise_train,
+};
+use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
 use crate::geometry::Centreline;
 use crate::shape::{CurvatureProfile, ShapeFamily, family};
 
@@ -46,9 +49,18 @@ pub struct Evaluation {
     pub spacing_m: f64,
     pub profile: CurvatureProfile,
     pub path: Centreline,
+    /// The front car's ride (for one car, the point-mass ride).
     pub ride: Ride,
+    /// Every car's ride.
+    pub train: TrainRide,
+    /// Worst-car figures: the checks and the search constrain the worst car.
     pub summary: Summary,
+    /// Each car's figures (front first).
+    pub cars: Vec<CarSummary>,
     pub verdict: Verdict,
+    /// The duration-based envelope check of every car, once assessed ([`Design::assess_envelope`];
+    /// the search itself does not evaluate it).
+    pub envelope: Option<EnvelopeReport>,
 }
 
 /// The result of a design run: the reported evaluation plus its finer re-check.
@@ -61,6 +73,16 @@ pub struct Design {
     pub verification: Evaluation,
     /// How many loops the search evaluated.
     pub evaluations: usize,
+}
+
+impl Design {
+    /// Check the verification ride (every car) against an envelope table, e.g. a user's `--limits`
+    /// file or [`EnvelopeTable::illustrative`]; the result is kept in `verification.envelope`.
+    pub fn assess_envelope(&mut self, table: &EnvelopeTable) -> &EnvelopeReport {
+        let v = &mut self.verification;
+        v.envelope
+            .insert(evaluate_envelope(table, &v.path, &v.train))
+    }
 }
 
 /// A suggestion of the nearest value of a brief field that would make the brief feasible.
@@ -119,11 +141,18 @@ pub fn evaluate(
     let profile = fam
         .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
         .map_err(|e| EvalFailure::Shape(e.to_string()))?;
-    let path = Centreline::build(&profile, brief.heartline_height_m, spacing_m);
+    let path = Centreline::build_shifted(
+        &profile,
+        brief.heartline_height_m,
+        spacing_m,
+        brief.lateral_shift_m,
+    );
     let cond = conditions(brief);
-    let ride = simulate(&path, &cond).map_err(EvalFailure::Stall)?;
-    let summary = summarise(&path, &ride);
+    let train = simulate_train(&path, &cond, &train_of(brief)).map_err(EvalFailure::Stall)?;
+    let (summary, cars) = summarise_train(&path, &train);
     let verdict = check(&summary, &Limits::from(brief));
+    let ride = train.cars[0].clone();
+    let envelope = None;
     Ok(Evaluation {
         kind,
         shape: shape.to_vec(),
@@ -132,9 +161,20 @@ pub fn evaluate(
         profile,
         path,
         ride,
+        train,
         summary,
+        cars,
         verdict,
+        envelope,
     })
+}
+
+/// The train a brief describes.
+pub fn train_of(brief: &Brief) -> Train {
+    Train {
+        cars: brief.cars,
+        car_pitch_m: brief.car_pitch_m,
+    }
 }
 
 /// Why a loop could not be evaluated at all.
@@ -508,13 +548,15 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
             &counter,
         ));
     }
-    Ok(Design {
+    let mut d = Design {
         brief: brief.clone(),
         shape_labels: fam.shape_labels().to_vec(),
         best,
         verification,
         evaluations: counter.load(Ordering::Relaxed),
-    })
+    };
+    d.assess_envelope(&EnvelopeTable::illustrative());
+    Ok(d)
 }
 
 fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {

@@ -98,8 +98,64 @@ pub fn terminal_summary(d: &Design) -> String {
             l.limit_value
         ));
     }
+    out.push_str(&train_and_envelope(d));
     out.push_str(CAUTION);
     out.push('\n');
+    out
+}
+
+/// Terminal lines for the lateral shift, the train's cars and the duration envelope.
+pub fn train_and_envelope(d: &Design) -> String {
+    let b = &d.brief;
+    let s = &d.verification.summary;
+    let mut out = String::new();
+    out.push_str(&format!(
+        "  {:<34} {:.2} m (exit beside entry); peak roll of the rider {:.2} deg\n",
+        "lateral shift", b.lateral_shift_m, s.peak_roll_deg
+    ));
+    let cars = &d.verification.cars;
+    if cars.len() > 1 {
+        out.push_str(&format!(
+            "  train: {} cars at {:.2} m pitch ({:.2} m front to rear); limits apply to the worst car\n",
+            cars.len(),
+            b.car_pitch_m,
+            d.verification.train.train.length_m()
+        ));
+        let mid = d.verification.train.train.middle();
+        for (label, j) in [("front", 0), ("middle", mid), ("rear", cars.len() - 1)] {
+            let c = &cars[j];
+            out.push_str(&format!(
+                "    {label:<6} (car {j:>2}) peak {:.3} g, top {:.3} g at {:.2} m/s, peak lateral {:.3} g\n",
+                c.peak_normal_g, c.top_normal_g, c.top_speed_m_s, c.peak_lateral_g
+            ));
+        }
+    }
+    let Some(e) = &d.verification.envelope else {
+        out.push_str("  acceleration envelope: not assessed\n");
+        return out;
+    };
+    out.push_str(&format!(
+        "  acceleration envelope: {}{} — {}\n",
+        e.title,
+        if e.illustrative {
+            " [ILLUSTRATIVE values: verify against the governing standard]"
+        } else {
+            ""
+        },
+        if e.pass { "pass" } else { "FAIL" }
+    ));
+    for l in &e.levels {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_level(l)
+        ));
+    }
+    for o in &e.onsets {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_onset(o)
+        ));
+    }
     out
 }
 

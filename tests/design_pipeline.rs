@@ -12,6 +12,8 @@ fn lossless(mut b: Brief) -> Brief {
     b.rolling_resistance = 0.0;
     b.drag_area_m2 = 0.0;
     b.max_onset_g_s = None;
+    // The closed forms below are for the planar loop.
+    b.lateral_shift_m = 0.0;
     b
 }
 

@@ -8,6 +8,7 @@
 //! - `<name>.svg`: elevation drawing ([`svg`]);
 //! - `<name>-loads.svg`: loads against arc length with the limits ([`plot`]);
 //! - `<name>-loads.csv`: one row per station ([`table`]);
+//! - `<name>-cars.csv`: one row per car per station, for trains of two or more cars ([`table::cars_csv`]);
 //! - `<name>.json`: the report ([`json`]).
 
 pub mod dxf;
@@ -95,7 +96,7 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError>
 /// of it could be produced.
 pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportError> {
     let name = &design.brief.name;
-    Ok(vec![
+    let mut files = vec![
         (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
         (
             format!("{name}.svg"),
@@ -107,7 +108,12 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
         ),
         (format!("{name}-loads.csv"), table::loads_csv(design)?),
         (format!("{name}.json"), json::report_json(design)?),
-    ])
+    ];
+    // One car is the point mass: its loads are the loads table already.
+    if design.best.train.cars.len() > 1 {
+        files.push((format!("{name}-cars.csv"), table::cars_csv(design)?));
+    }
+    Ok(files)
 }
 
 /// Encode and write every output of a design into `out_dir` (created if missing).
