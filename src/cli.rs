@@ -183,6 +183,7 @@ impl BriefArgs {
             air_density_kg_m3: self.air_density,
             lead_length_m: self.lead_length,
             spacing_m: self.spacing,
+            profile: None,
         }
     }
 

@@ -17,6 +17,10 @@
 //! A brief no shape can meet yields [`Infeasible`], which says which limit binds and the nearest
 //! value that would work.
 
+mod force_first;
+
+pub use force_first::ProfileCost;
+
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::brent::{BrentOpt, BrentRoot};
 use argmin::solver::neldermead::NelderMead;
@@ -29,7 +33,7 @@ use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::{Limits, Summary, Verdict, check, onset_for_limit, summarise};
 use crate::dynamics::{Conditions, Ride, Stall, simulate};
 use crate::geometry::Centreline;
-use crate::shape::{CurvatureProfile, ShapeFamily, family};
+use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -103,11 +107,13 @@ pub fn evaluate(
     top_radius_m: f64,
     spacing_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
-    let fam = family(kind);
+    let fam = family_for(brief, kind);
     let profile = fam
         .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
         .map_err(|e| EvalFailure::Shape(e.to_string()))?;
     let path = Centreline::build(&profile, brief.heartline_height_m, spacing_m);
+    // A force-first loop's size comes from the ride: report the top radius it actually has.
+    let top_radius_m = if fam.size_from_ride() { 1.0 / path.top().curvature_1_m } else { top_radius_m };
     let cond = conditions(brief);
     let ride = simulate(&path, &cond).map_err(EvalFailure::Stall)?;
     let summary = summarise(&path, &ride);
@@ -120,6 +126,24 @@ pub fn evaluate(
 pub enum EvalFailure {
     Shape(String),
     Stall(Stall),
+}
+
+/// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
+/// load profile and ride (entry speed and losses); the others are pure geometry.
+pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
+    match (kind, &brief.profile) {
+        (ShapeKind::Profile, Some(spec)) => Box::new(Profile::new(spec.clone(), ride_context(brief))),
+        _ => family(kind),
+    }
+}
+
+/// The ride a force-first family is solved for.
+pub fn ride_context(brief: &Brief) -> RideContext {
+    RideContext {
+        entry_speed_m_s: brief.entry_speed_m_s,
+        rolling_resistance: brief.rolling_resistance,
+        drag_per_metre: brief.drag_per_metre(),
+    }
 }
 
 /// Dynamics conditions from a brief.
@@ -391,6 +415,9 @@ pub fn design(brief: &Brief) -> Result<Design, Infeasible> {
 
 /// Design the loop the brief asks for with a given family.
 pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
+    if family_for(brief, kind).size_from_ride() {
+        return crate::optimiser::force_first::design_profile(brief, kind);
+    }
     let fam = family(kind);
     let counter = AtomicUsize::new(0);
     let shape = search_shape(brief, fam.as_ref(), &counter);
