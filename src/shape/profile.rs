@@ -213,6 +213,14 @@ impl Profile {
             }
             Ok(G * d / u)
         };
+        // The target itself must exceed cos θ everywhere it applies; say so before integrating
+        // (otherwise the track would run nearly straight towards the crossing and stall first).
+        let th_end = 2.0 * PI - th_t;
+        let scan = (((th_end - th_t) * STEPS_PER_RAD * 2.0).ceil() as usize).max(8);
+        for i in 0..=scan {
+            let th = th_t + (th_end - th_t) * i as f64 / scan as f64;
+            kappa_of(th, u0)?;
+        }
         let mut segments = Vec::new();
         // State after the entry spiral: s, x, z, u.
         let (mut s, mut z, mut u) = (0.0, 0.0, u0);
@@ -246,7 +254,6 @@ impl Profile {
             u = u_join;
         }
         // Target part: RK4 in θ on (s, z, u); x is not needed here (geometry integrates it).
-        let th_end = 2.0 * PI - th_t;
         let steps = (((th_end - th_t) * STEPS_PER_RAD).ceil() as usize).max(8);
         let h = (th_end - th_t) / steps as f64;
         let rhs = |theta: f64, y: [f64; 3]| -> Result<[f64; 3], ShapeError> {
