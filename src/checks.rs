@@ -6,6 +6,8 @@
 //!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
 
+pub mod centreline;
+
 use serde::Serialize;
 
 use crate::brief::Brief;

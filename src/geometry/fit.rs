@@ -26,8 +26,10 @@ use super::{Centreline, Station};
 pub const MAX_TILT_DEG: f64 = 2.0;
 /// Stations where |κ| exceeds this fraction of the largest |κ| make up the loop proper.
 pub const LOOP_CURVATURE_FRACTION: f64 = 0.01;
-/// Default fitting tolerance (RMS distance from the points), m: about CAD drawing precision.
-pub const DEFAULT_TOLERANCE_M: f64 = 0.001;
+/// Default fitting tolerance (RMS distance from the points), m. Chosen so that exact points of a
+/// designed loop come back within 0.05 g (the round-trip tests); raise it to the accuracy of
+/// edited or surveyed points (e.g. 1 mm for coordinates rounded to the millimetre).
+pub const DEFAULT_TOLERANCE_M: f64 = 0.000_25;
 
 /// Largest distance of any point from the fitted plane, m: 0.1 m or 2 % of the loop's extent.
 pub fn max_out_of_plane_m(extent_m: f64) -> f64 {
