@@ -107,6 +107,167 @@ fn smoothing_spline_matches_scipy() {
         }
         std::fs::write(&ours, rows).unwrap();
         let out = common::python("smoothing_spline_check.py", &[&data], &[lam, ours.to_str().unwrap()]);
+        eprint!("λ = {lam}: {out}");
         assert!(out.contains("worst"), "{out}");
+    }
+}
+
+mod dxf_reading {
+    use super::*;
+    use dxf::entities::{Entity, EntityType, LwPolyline, Polyline, Spline, Vertex};
+    use dxf::enums::AcadVersion;
+    use dxf::{Drawing, LwPolylineVertex, Point, Vector};
+
+    fn add(drawing: &mut Drawing, layer: &str, t: EntityType) {
+        let mut e = Entity::new(t);
+        e.common.layer = layer.into();
+        drawing.add_entity(e);
+    }
+
+    /// A DXF built with the `dxf` crate: an LWPOLYLINE semicircle (bulge 1) drawn in the vertical
+    /// XZ plane (extrusion −Y), a cubic Bézier SPLINE and a 3D POLYLINE, each on its own layer.
+    fn drawing(dir: &Path) -> std::path::PathBuf {
+        let mut d = Drawing::new();
+        d.header.version = AcadVersion::R2000;
+        let r = 5.0;
+        let lw = LwPolyline {
+            vertices: vec![
+                LwPolylineVertex { x: 0.0, y: 0.0, bulge: 1.0, ..Default::default() },
+                LwPolylineVertex { x: 2.0 * r, y: 0.0, ..Default::default() },
+            ],
+            extrusion_direction: Vector::new(0.0, -1.0, 0.0),
+            ..Default::default()
+        };
+        add(&mut d, "ARC-OCS", EntityType::LwPolyline(lw));
+        let ctrl = [(0.0, 0.0), (4.0, 0.0), (8.0, 6.0), (8.0, 12.0)];
+        let sp = Spline {
+            degree_of_curve: 3,
+            knot_values: vec![0.0, 0.0, 0.0, 0.0, 1.0, 1.0, 1.0, 1.0],
+            control_points: ctrl.iter().map(|&(x, z)| Point::new(x, 0.0, z)).collect(),
+            ..Default::default()
+        };
+        add(&mut d, "BEZIER", EntityType::Spline(sp));
+        let mut poly = Polyline::default();
+        poly.set_is_3d_polyline(true);
+        for i in 0..12 {
+            let mut v = Vertex::new(Point::new(i as f64, 0.0, (i * i) as f64 * 0.1));
+            v.set_is_3d_polyline_vertex(true);
+            poly.add_vertex(&mut d, v);
+        }
+        add(&mut d, "POLY3D", EntityType::Polyline(poly));
+        let file = dir.join("built.dxf");
+        d.save_file(&file).unwrap();
+        file
+    }
+
+    // DXF reference (Autodesk, "DXF Reference", LWPOLYLINE group 42): bulge = tan(θ/4), positive
+    // counter-clockwise; OCS axes by the reference's "arbitrary axis algorithm" (for extrusion −Y:
+    // OCS x → world X, OCS y → world Z). A bulge-1 span from (0,0) to (2r,0) is the lower
+    // semicircle about (r, 0): every point at distance r, the middle one at (r, −r).
+    #[test]
+    fn lwpolyline_arc_is_mapped_from_its_ocs() {
+        let dir = tempfile::tempdir().unwrap();
+        let c = read_centreline(&drawing(dir.path()), Some("ARC-OCS")).unwrap();
+        assert_eq!(c.points_m.len(), 17);
+        for p in &c.points_m {
+            assert!(p.y.abs() < 1e-12 && ((p.x - 5.0).hypot(p.z) - 5.0).abs() < 1e-9, "{p:?}");
+        }
+        let mid = c.points_m[8];
+        assert!((mid.x - 5.0).abs() < 1e-9 && (mid.z + 5.0).abs() < 1e-9, "{mid:?}");
+        assert!(c.source.contains("LWPOLYLINE") && c.source.contains("ARC-OCS"));
+    }
+
+    // A clamped cubic B-spline with one span is the Bézier curve of its control points
+    // (Piegl & Tiller, "The NURBS Book", §2.2): compare with the Bernstein form.
+    #[test]
+    fn spline_is_evaluated_as_its_bezier_curve() {
+        let dir = tempfile::tempdir().unwrap();
+        let c = read_centreline(&drawing(dir.path()), Some("BEZIER")).unwrap();
+        let ctrl = [(0.0, 0.0), (4.0, 0.0), (8.0, 6.0), (8.0, 12.0)];
+        let n = c.points_m.len() - 1;
+        for (i, p) in c.points_m.iter().enumerate() {
+            let t = i as f64 / n as f64;
+            let b = [(1.0 - t).powi(3), 3.0 * t * (1.0 - t).powi(2), 3.0 * t * t * (1.0 - t), t.powi(3)];
+            let x: f64 = (0..4).map(|k| b[k] * ctrl[k].0).sum();
+            let z: f64 = (0..4).map(|k| b[k] * ctrl[k].1).sum();
+            assert!((p.x - x).abs() < 1e-12 && (p.z - z).abs() < 1e-12, "{i}: {p:?} vs ({x}, {z})");
+        }
+    }
+
+    #[test]
+    fn polyline_vertices_are_read_exactly_and_layers_are_listed() {
+        let dir = tempfile::tempdir().unwrap();
+        let file = drawing(dir.path());
+        let c = read_centreline(&file, Some("POLY3D")).unwrap();
+        assert_eq!(c.points_m.len(), 12);
+        assert_eq!(c.points_m[11], nalgebra::Vector3::new(11.0, 0.0, 12.1));
+        let e = read_centreline(&file, Some("TRACK")).unwrap_err().to_string();
+        assert!(e.contains("no layer 'TRACK'") && e.contains("ARC-OCS") && e.contains("BEZIER") && e.contains("POLY3D"), "{e}");
+        let e = read_centreline(&file, None).unwrap_err().to_string();
+        assert!(e.contains("holds 3 curves") && e.contains("--layer"), "{e}");
+    }
+}
+
+mod refusals {
+    use super::*;
+
+    fn err_of(name: &str, bytes: &[u8]) -> String {
+        let dir = tempfile::tempdir().unwrap();
+        let f = dir.path().join(name);
+        std::fs::write(&f, bytes).unwrap();
+        read_centreline(&f, None).unwrap_err().to_string()
+    }
+
+    #[test]
+    fn malformed_files_get_clear_messages() {
+        assert!(err_of("e.csv", b"").contains("is empty"));
+        assert!(err_of("e.dxf", b"").contains("is empty"));
+        assert!(err_of("few.csv", b"x_m,y_m,z_m\n0,0,0\n1,0,0\n2,0,1\n").contains("3 distinct points; at least 8"));
+        let e = err_of("nan.csv", b"x_m,y_m,z_m\n0,0,0\n1,0,NaN\n");
+        assert!(e.contains("row 3, z = NaN is not a finite number"), "{e}");
+        let e = err_of("inf.csv", b"0,0,0\n1,0,inf\n");
+        assert!(e.contains("row 2, z = inf"), "{e}");
+        let e = err_of("hdr.csv", b"a,b,c\n1,2,3\n");
+        assert!(e.contains("without x_m, y_m and z_m") && e.contains("found: a, b, c"), "{e}");
+        let e = err_of("txt.csv", b"x_m,y_m,z_m\n0,0,zero\n");
+        assert!(e.contains("'zero' is not a number"), "{e}");
+        let e = err_of("junk.dxf", b"this is not a drawing\n");
+        assert!(e.contains("not a readable DXF"), "{e}");
+        // A file past the size limit is refused from its length, before it is read.
+        let dir = tempfile::tempdir().unwrap();
+        let big = dir.path().join("big.csv");
+        std::fs::File::create(&big).unwrap().set_len(MAX_FILE_BYTES + 1).unwrap();
+        let e = read_centreline(&big, None).unwrap_err().to_string();
+        assert!(e.contains("bytes; check reads centrelines of at most"), "{e}");
+        let missing = read_centreline(&dir.path().join("nope.csv"), None).unwrap_err();
+        assert!(matches!(missing, loopwright::import::ImportError::Io { .. }));
+    }
+
+    /// Exit codes through the CLI: 0 pass (outputs written, caution in the JSON), 3 when a limit
+    /// fails, 2 for a file that is not a centreline, 4 for a file that cannot be read.
+    #[test]
+    fn check_command_exit_codes() {
+        use loopwright::cli::{EXIT_INFEASIBLE, EXIT_IO, EXIT_OK, EXIT_USAGE, main_with_args};
+        let d = demo();
+        let dir = tempfile::tempdir().unwrap();
+        let f = dir.path().join("edited.csv");
+        write_points(&f, d.best.path.stations.iter().map(|s| (s.heartline_m.x, s.heartline_m.y, s.heartline_m.z)));
+        let out = dir.path().join("out");
+        let run = |extra: &[&str]| {
+            let mut a = vec!["loopwright", "check", f.to_str().unwrap(), "--points", "heartline", "--out", out.to_str().unwrap()];
+            a.extend_from_slice(extra);
+            main_with_args(a)
+        };
+        // The demo design sits on its top-load limit; the refit is a hair under it, so relax it.
+        assert_eq!(run(&["--min-top-g", "0.1", "--quiet"]), EXIT_OK);
+        let json = std::fs::read_to_string(out.join("edited-check.json")).unwrap();
+        assert!(json.contains(loopwright::report::CAUTION) && json.contains("\"pass\": true"));
+        let csv = std::fs::read_to_string(out.join("edited-check-loads.csv")).unwrap();
+        assert!(csv.starts_with("s_m,x_m,y_m,z_m,"));
+        assert_eq!(run(&["--max-g", "3.0"]), EXIT_INFEASIBLE);
+        assert_eq!(run(&["--fit-tolerance", "nan"]), EXIT_USAGE);
+        assert_eq!(run(&["--layer", "LW-RAIL"]), EXIT_USAGE);
+        let missing = dir.path().join("missing.csv");
+        assert_eq!(main_with_args(["loopwright", "check", missing.to_str().unwrap()]), EXIT_IO);
     }
 }

@@ -68,6 +68,8 @@ fn constant_load_gives_the_constant_normal_force_track() {
     let csv = dir.path().join("stations.csv");
     std::fs::write(&csv, rows).unwrap();
     let out = common::python("constant_load_track.py", &[&csv], &["3.0", "25.0", "1e-4"]);
+    eprint!("{out}");
+    eprintln!("worst load {:.2e} g, speed {:.2e} m/s, height {:.2e} m, curvature {:.2e} relative", worst[0], worst[1], worst[2], worst[3]);
     assert!(out.contains("worst"), "{out}");
 }
 
