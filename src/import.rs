@@ -63,46 +63,81 @@ pub enum ImportError {
 }
 
 fn format_err(what: &str, message: impl Into<String>) -> ImportError {
-    ImportError::Format { what: what.to_string(), message: message.into() }
+    ImportError::Format {
+        what: what.to_string(),
+        message: message.into(),
+    }
 }
 
 /// Read a centreline file: DXF by extension (`.dxf`, any case), otherwise CSV.
-pub fn read_centreline(path: &Path, layer: Option<&str>) -> Result<ImportedCentreline, ImportError> {
-    let io = |message: String| ImportError::Io { path: path.to_path_buf(), message };
+pub fn read_centreline(
+    path: &Path,
+    layer: Option<&str>,
+) -> Result<ImportedCentreline, ImportError> {
+    let io = |message: String| ImportError::Io {
+        path: path.to_path_buf(),
+        message,
+    };
     let meta = std::fs::metadata(path).map_err(|e| io(e.to_string()))?;
     let what = path.display().to_string();
     if meta.len() > MAX_FILE_BYTES {
         return Err(format_err(
             &what,
-            format!("is {} bytes; check reads centrelines of at most {MAX_FILE_BYTES} bytes ({MAX_POINTS} points)", meta.len()),
+            format!(
+                "is {} bytes; check reads centrelines of at most {MAX_FILE_BYTES} bytes ({MAX_POINTS} points)",
+                meta.len()
+            ),
         ));
     }
     if meta.len() == 0 {
-        return Err(format_err(&what, "is empty; give a DXF with a polyline or spline, or a CSV of x,y,z points"));
+        return Err(format_err(
+            &what,
+            "is empty; give a DXF with a polyline or spline, or a CSV of x,y,z points",
+        ));
     }
-    let is_dxf = path.extension().is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
+    let is_dxf = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
     if is_dxf {
-        let drawing = Drawing::load_file(path).map_err(|e| format_err(&what, format!("is not a readable DXF: {e}")))?;
+        let drawing = Drawing::load_file(path)
+            .map_err(|e| format_err(&what, format!("is not a readable DXF: {e}")))?;
         from_drawing(&drawing, layer, &what)
     } else {
         if layer.is_some() {
-            return Err(format_err(&what, "--layer applies to DXF files only; this file is read as CSV"));
+            return Err(format_err(
+                &what,
+                "--layer applies to DXF files only; this file is read as CSV",
+            ));
         }
         let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
-        let text = String::from_utf8(bytes).map_err(|_| format_err(&what, "is not UTF-8 text; a CSV of x,y,z points was expected"))?;
+        let text = String::from_utf8(bytes).map_err(|_| {
+            format_err(
+                &what,
+                "is not UTF-8 text; a CSV of x,y,z points was expected",
+            )
+        })?;
         parse_csv(&text, &what)
     }
 }
 
 /// Parse CSV text of x, y, z points (see the module docs for the accepted layouts).
 pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportError> {
-    let lines: Vec<&str> = text.lines().filter(|l| !l.trim().is_empty() && !l.trim_start().starts_with('#')).collect();
+    let lines: Vec<&str> = text
+        .lines()
+        .filter(|l| !l.trim().is_empty() && !l.trim_start().starts_with('#'))
+        .collect();
     if lines.is_empty() {
-        return Err(format_err(what, "holds no rows; give x,y,z points, one per row"));
+        return Err(format_err(
+            what,
+            "holds no rows; give x,y,z points, one per row",
+        ));
     }
     let joined = lines.join("\n");
-    let mut reader =
-        csv::ReaderBuilder::new().has_headers(false).trim(csv::Trim::All).flexible(true).from_reader(joined.as_bytes());
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .trim(csv::Trim::All)
+        .flexible(true)
+        .from_reader(joined.as_bytes());
     let mut records = reader.records();
     let first = match records.next() {
         Some(Ok(r)) => r,
@@ -111,16 +146,35 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
     };
     let numeric = |s: &str| s.parse::<f64>().is_ok();
     let (cols, header, source) = if first.iter().take(3).all(numeric) && first.len() >= 3 {
-        ([0, 1, 2], false, "CSV, first three columns as x, y, z".to_string())
+        (
+            [0, 1, 2],
+            false,
+            "CSV, first three columns as x, y, z".to_string(),
+        )
     } else {
-        let find = |names: &[&str]| first.iter().position(|h| names.iter().any(|n| h.eq_ignore_ascii_case(n)));
-        match (find(&["x_m", "x"]), find(&["y_m", "y"]), find(&["z_m", "z"])) {
-            (Some(x), Some(y), Some(z)) => ([x, y, z], true, format!("CSV columns {},{},{}", &first[x], &first[y], &first[z])),
+        let find = |names: &[&str]| {
+            first
+                .iter()
+                .position(|h| names.iter().any(|n| h.eq_ignore_ascii_case(n)))
+        };
+        match (
+            find(&["x_m", "x"]),
+            find(&["y_m", "y"]),
+            find(&["z_m", "z"]),
+        ) {
+            (Some(x), Some(y), Some(z)) => (
+                [x, y, z],
+                true,
+                format!("CSV columns {},{},{}", &first[x], &first[y], &first[z]),
+            ),
             _ => {
                 let found: Vec<&str> = first.iter().collect();
                 return Err(format_err(
                     what,
-                    format!("has a header without x_m, y_m and z_m columns (found: {}); name them, or give three numeric columns without a header", found.join(", ")),
+                    format!(
+                        "has a header without x_m, y_m and z_m columns (found: {}); name them, or give three numeric columns without a header",
+                        found.join(", ")
+                    ),
                 ));
             }
         }
@@ -129,8 +183,22 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
     let row_of = |rec: &csv::StringRecord, row: usize| -> Result<Vector3<f64>, ImportError> {
         let mut p = [0.0; 3];
         for (k, &c) in cols.iter().enumerate() {
-            let cell = rec.get(c).ok_or_else(|| format_err(what, format!("row {row} has {} columns; column {} is missing", rec.len(), c + 1)))?;
-            let v: f64 = cell.parse().map_err(|_| format_err(what, format!("row {row}, column {}: '{cell}' is not a number", c + 1)))?;
+            let cell = rec.get(c).ok_or_else(|| {
+                format_err(
+                    what,
+                    format!(
+                        "row {row} has {} columns; column {} is missing",
+                        rec.len(),
+                        c + 1
+                    ),
+                )
+            })?;
+            let v: f64 = cell.parse().map_err(|_| {
+                format_err(
+                    what,
+                    format!("row {row}, column {}: '{cell}' is not a number", c + 1),
+                )
+            })?;
             check_coord(v, what, &format!("row {row}, {}", ["x", "y", "z"][k]))?;
             p[k] = v;
         }
@@ -142,7 +210,12 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
     for (i, rec) in records.enumerate() {
         let rec = rec.map_err(|e| format_err(what, format!("is not valid CSV: {e}")))?;
         if points.len() >= MAX_POINTS {
-            return Err(format_err(what, format!("has more than {MAX_POINTS} points; thin it (a loop needs a point every few centimetres at most)")));
+            return Err(format_err(
+                what,
+                format!(
+                    "has more than {MAX_POINTS} points; thin it (a loop needs a point every few centimetres at most)"
+                ),
+            ));
         }
         points.push(row_of(&rec, i + 2)?);
     }
@@ -151,16 +224,28 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
 
 fn check_coord(v: f64, what: &str, at: &str) -> Result<(), ImportError> {
     if !v.is_finite() {
-        return Err(format_err(what, format!("{at} = {v} is not a finite number; every coordinate must be a finite value in metres")));
+        return Err(format_err(
+            what,
+            format!(
+                "{at} = {v} is not a finite number; every coordinate must be a finite value in metres"
+            ),
+        ));
     }
     if v.abs() > MAX_COORD_M {
-        return Err(format_err(what, format!("{at} = {v} m is beyond ±{MAX_COORD_M} m; give coordinates in metres")));
+        return Err(format_err(
+            what,
+            format!("{at} = {v} m is beyond ±{MAX_COORD_M} m; give coordinates in metres"),
+        ));
     }
     Ok(())
 }
 
 /// Merge duplicates and check the count.
-fn finish(raw: Vec<Vector3<f64>>, source: String, what: &str) -> Result<ImportedCentreline, ImportError> {
+fn finish(
+    raw: Vec<Vector3<f64>>,
+    source: String,
+    what: &str,
+) -> Result<ImportedCentreline, ImportError> {
     let mut points: Vec<Vector3<f64>> = Vec::with_capacity(raw.len());
     let mut merged = 0;
     for p in raw {
@@ -172,19 +257,44 @@ fn finish(raw: Vec<Vector3<f64>>, source: String, what: &str) -> Result<Imported
     if points.len() < MIN_POINTS {
         return Err(format_err(
             what,
-            format!("has {} distinct points; at least {MIN_POINTS} are needed to fit a smooth centreline", points.len()),
+            format!(
+                "has {} distinct points; at least {MIN_POINTS} are needed to fit a smooth centreline",
+                points.len()
+            ),
         ));
     }
     if points.len() > MAX_POINTS {
-        return Err(format_err(what, format!("has {} points; at most {MAX_POINTS} are accepted", points.len())));
+        return Err(format_err(
+            what,
+            format!(
+                "has {} points; at most {MAX_POINTS} are accepted",
+                points.len()
+            ),
+        ));
     }
-    Ok(ImportedCentreline { points_m: points, source, merged_duplicates: merged })
+    Ok(ImportedCentreline {
+        points_m: points,
+        source,
+        merged_duplicates: merged,
+    })
 }
 
 /// The centreline on `layer` of a loaded drawing (or its only curve when no layer is given).
-pub fn from_drawing(drawing: &Drawing, layer: Option<&str>, what: &str) -> Result<ImportedCentreline, ImportError> {
-    let is_curve = |t: &EntityType| matches!(t, EntityType::Polyline(_) | EntityType::LwPolyline(_) | EntityType::Spline(_));
-    let curves: Vec<_> = drawing.entities().filter(|e| is_curve(&e.specific)).collect();
+pub fn from_drawing(
+    drawing: &Drawing,
+    layer: Option<&str>,
+    what: &str,
+) -> Result<ImportedCentreline, ImportError> {
+    let is_curve = |t: &EntityType| {
+        matches!(
+            t,
+            EntityType::Polyline(_) | EntityType::LwPolyline(_) | EntityType::Spline(_)
+        )
+    };
+    let curves: Vec<_> = drawing
+        .entities()
+        .filter(|e| is_curve(&e.specific))
+        .collect();
     let mut layers: Vec<String> = drawing.layers().map(|l| l.name.clone()).collect();
     for e in drawing.entities() {
         if !layers.contains(&e.common.layer) {
@@ -201,7 +311,14 @@ pub fn from_drawing(drawing: &Drawing, layer: Option<&str>, what: &str) -> Resul
             if !layers.iter().any(|l| l == name) {
                 return Err(format_err(
                     what,
-                    format!("has no layer '{name}'; layers in the file: {}", if layers.is_empty() { "(none)".into() } else { layers.join(", ") }),
+                    format!(
+                        "has no layer '{name}'; layers in the file: {}",
+                        if layers.is_empty() {
+                            "(none)".into()
+                        } else {
+                            layers.join(", ")
+                        }
+                    ),
                 ));
             }
             curves.iter().filter(|e| e.common.layer == name).collect()
@@ -213,27 +330,50 @@ pub fn from_drawing(drawing: &Drawing, layer: Option<&str>, what: &str) -> Resul
         0 => {
             return Err(format_err(
                 what,
-                format!("holds no POLYLINE, LWPOLYLINE or SPLINE{on}; layers with such curves: {}", if curve_layers.is_empty() { "(none)".into() } else { curve_layers.join(", ") }),
+                format!(
+                    "holds no POLYLINE, LWPOLYLINE or SPLINE{on}; layers with such curves: {}",
+                    if curve_layers.is_empty() {
+                        "(none)".into()
+                    } else {
+                        curve_layers.join(", ")
+                    }
+                ),
             ));
         }
         1 => chosen[0],
         n => {
             return Err(format_err(
                 what,
-                format!("holds {n} curves{on} (layers: {}); put the centreline alone on a layer and choose it with --layer", curve_layers.join(", ")),
+                format!(
+                    "holds {n} curves{on} (layers: {}); put the centreline alone on a layer and choose it with --layer",
+                    curve_layers.join(", ")
+                ),
             ));
         }
     };
     let layer_name = &e.common.layer;
     let (kind, raw) = match &e.specific {
-        EntityType::Polyline(p) => ("POLYLINE", p.vertices().map(|v| Vector3::new(v.location.x, v.location.y, v.location.z)).collect()),
+        EntityType::Polyline(p) => (
+            "POLYLINE",
+            p.vertices()
+                .map(|v| Vector3::new(v.location.x, v.location.y, v.location.z))
+                .collect(),
+        ),
         EntityType::LwPolyline(p) => ("LWPOLYLINE", lwpolyline_points(p)),
-        EntityType::Spline(s) => ("SPLINE", spline_points(s).map_err(|m| format_err(what, format!("SPLINE on layer '{layer_name}': {m}")))?),
+        EntityType::Spline(s) => (
+            "SPLINE",
+            spline_points(s)
+                .map_err(|m| format_err(what, format!("SPLINE on layer '{layer_name}': {m}")))?,
+        ),
         _ => unreachable!("filtered to curves above"),
     };
     for (i, p) in raw.iter().enumerate() {
         for (k, v) in p.iter().enumerate() {
-            check_coord(*v, what, &format!("{kind} point {}, {}", i + 1, ["x", "y", "z"][k]))?;
+            check_coord(
+                *v,
+                what,
+                &format!("{kind} point {}, {}", i + 1, ["x", "y", "z"][k]),
+            )?;
         }
     }
     finish(raw, format!("DXF {kind} on layer '{layer_name}'"), what)
@@ -241,8 +381,16 @@ pub fn from_drawing(drawing: &Drawing, layer: Option<&str>, what: &str) -> Resul
 
 /// The DXF "arbitrary axis algorithm": the object coordinate system of an extrusion direction.
 fn ocs_axes(n: Vector3<f64>) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
-    let n = if n.norm() > 0.0 { n.normalize() } else { Vector3::z() };
-    let ax = if n.x.abs() < 1.0 / 64.0 && n.y.abs() < 1.0 / 64.0 { Vector3::y().cross(&n) } else { Vector3::z().cross(&n) };
+    let n = if n.norm() > 0.0 {
+        n.normalize()
+    } else {
+        Vector3::z()
+    };
+    let ax = if n.x.abs() < 1.0 / 64.0 && n.y.abs() < 1.0 / 64.0 {
+        Vector3::y().cross(&n)
+    } else {
+        Vector3::z().cross(&n)
+    };
     let ax = ax.normalize();
     let ay = n.cross(&ax).normalize();
     (ax, ay, n)
@@ -287,24 +435,42 @@ fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
         if s.fit_points.is_empty() {
             return Err("has neither control points nor fit points".into());
         }
-        return Ok(s.fit_points.iter().map(|p| Vector3::new(p.x, p.y, p.z)).collect());
+        return Ok(s
+            .fit_points
+            .iter()
+            .map(|p| Vector3::new(p.x, p.y, p.z))
+            .collect());
     }
-    let p = usize::try_from(s.degree_of_curve).map_err(|_| format!("degree {} is not valid", s.degree_of_curve))?;
+    let p = usize::try_from(s.degree_of_curve)
+        .map_err(|_| format!("degree {} is not valid", s.degree_of_curve))?;
     let knots = &s.knot_values;
     if p == 0 || p > 10 || knots.len() != ctrl.len() + p + 1 {
-        return Err(format!("degree {p} with {} control points needs {} knots, found {}", ctrl.len(), ctrl.len() + p + 1, knots.len()));
+        return Err(format!(
+            "degree {p} with {} control points needs {} knots, found {}",
+            ctrl.len(),
+            ctrl.len() + p + 1,
+            knots.len()
+        ));
     }
-    if knots.windows(2).any(|w| !(w[1] >= w[0])) || knots.iter().any(|k| !k.is_finite()) {
+    if knots.windows(2).any(|w| w[1] < w[0]) || knots.iter().any(|k| !k.is_finite()) {
         return Err("knots must be finite and non-decreasing".into());
     }
-    let w: Vec<f64> = if s.weight_values.len() == ctrl.len() { s.weight_values.clone() } else { vec![1.0; ctrl.len()] };
+    let w: Vec<f64> = if s.weight_values.len() == ctrl.len() {
+        s.weight_values.clone()
+    } else {
+        vec![1.0; ctrl.len()]
+    };
     if w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
         return Err("weights must be positive".into());
     }
     // Homogeneous control points for rational evaluation.
-    let hom: Vec<[f64; 4]> = ctrl.iter().zip(&w).map(|(c, wi)| [c.x * wi, c.y * wi, c.z * wi, *wi]).collect();
+    let hom: Vec<[f64; 4]> = ctrl
+        .iter()
+        .zip(&w)
+        .map(|(c, wi)| [c.x * wi, c.y * wi, c.z * wi, *wi])
+        .collect();
     let (t0, t1) = (knots[p], knots[ctrl.len()]);
-    if !(t1 > t0) {
+    if t1 <= t0 {
         return Err("the knot vector spans no parameter range".into());
     }
     let spans = ctrl.len() - p;
@@ -321,9 +487,14 @@ fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
             for j in (r..=p).rev() {
                 let i0 = j + k - p;
                 let den = knots[i0 + p + 1 - r] - knots[i0];
-                let a = if den > 0.0 { (t - knots[i0]) / den } else { 0.0 };
-                for c in 0..4 {
-                    d[j][c] = (1.0 - a) * d[j - 1][c] + a * d[j][c];
+                let a = if den > 0.0 {
+                    (t - knots[i0]) / den
+                } else {
+                    0.0
+                };
+                let prev = d[j - 1];
+                for (v, pv) in d[j].iter_mut().zip(prev) {
+                    *v = (1.0 - a) * pv + a * *v;
                 }
             }
         }

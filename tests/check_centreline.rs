@@ -13,7 +13,7 @@ mod common;
 use loopwright::brief::Brief;
 use loopwright::checks::centreline::{CheckOptions, CheckedCentreline, check_centreline};
 use loopwright::geometry::fit::{DEFAULT_TOLERANCE_M, PointsAre, SmoothingSpline};
-use loopwright::import::{read_centreline, MAX_FILE_BYTES};
+use loopwright::import::{MAX_FILE_BYTES, read_centreline};
 use loopwright::optimiser::{Design, design};
 use std::path::Path;
 
@@ -21,16 +21,30 @@ fn demo() -> Design {
     design(&Brief::demo()).expect("the demo brief is feasible")
 }
 
-fn check_file(d: &Design, file: &Path, layer: Option<&str>, points_are: PointsAre) -> CheckedCentreline {
+fn check_file(
+    d: &Design,
+    file: &Path,
+    layer: Option<&str>,
+    points_are: PointsAre,
+) -> CheckedCentreline {
     let imported = read_centreline(file, layer).unwrap();
-    let opts = CheckOptions { points_are, tolerance_m: DEFAULT_TOLERANCE_M };
+    let opts = CheckOptions {
+        points_are,
+        tolerance_m: DEFAULT_TOLERANCE_M,
+    };
     check_centreline(&d.brief, &imported, "test", &opts).unwrap()
 }
 
 /// Largest |Δ normal_g| over every design station, the check's loads interpolated at the same
 /// heartline arc length (both start at the heartline entry point).
 fn worst_load_difference(d: &Design, c: &CheckedCentreline) -> f64 {
-    let (cs, cn): (Vec<f64>, Vec<f64>) = c.path.stations.iter().zip(&c.ride.points).map(|(s, p)| (s.s_m, p.normal_g)).unzip();
+    let (cs, cn): (Vec<f64>, Vec<f64>) = c
+        .path
+        .stations
+        .iter()
+        .zip(&c.ride.points)
+        .map(|(s, p)| (s.s_m, p.normal_g))
+        .unzip();
     let mut worst: f64 = 0.0;
     for (st, p) in d.best.path.stations.iter().zip(&d.best.ride.points) {
         let i = cs.partition_point(|&s| s <= st.s_m).clamp(1, cs.len() - 1);
@@ -56,14 +70,31 @@ fn csv_round_trip_reproduces_the_design_loads() {
     let d = demo();
     let dir = tempfile::tempdir().unwrap();
     let heart = dir.path().join("heart.csv");
-    write_points(&heart, d.best.path.stations.iter().map(|s| (s.heartline_m.x, s.heartline_m.y, s.heartline_m.z)));
+    write_points(
+        &heart,
+        d.best
+            .path
+            .stations
+            .iter()
+            .map(|s| (s.heartline_m.x, s.heartline_m.y, s.heartline_m.z)),
+    );
     let c = check_file(&d, &heart, None, PointsAre::Heartline);
     let w = worst_load_difference(&d, &c);
-    eprintln!("heartline CSV round trip: worst |Δn| = {w:.4} g; peak {:.4} vs {:.4} g", c.summary.peak_normal_g, d.best.summary.peak_normal_g);
+    eprintln!(
+        "heartline CSV round trip: worst |Δn| = {w:.4} g; peak {:.4} vs {:.4} g",
+        c.summary.peak_normal_g, d.best.summary.peak_normal_g
+    );
     assert!(w < 0.05, "worst {w} g");
     assert!((c.summary.loop_height_m - d.best.summary.loop_height_m).abs() < 0.01);
     let rail = dir.path().join("rail.csv");
-    write_points(&rail, d.best.path.stations.iter().map(|s| (s.rail_m.x, s.rail_m.y, s.rail_m.z)));
+    write_points(
+        &rail,
+        d.best
+            .path
+            .stations
+            .iter()
+            .map(|s| (s.rail_m.x, s.rail_m.y, s.rail_m.z)),
+    );
     let c = check_file(&d, &rail, None, PointsAre::Rail);
     let w = worst_load_difference(&d, &c);
     eprintln!("rail CSV round trip: worst |Δn| = {w:.4} g");
@@ -79,7 +110,10 @@ fn dxf_round_trip_reproduces_the_design_loads() {
     let dir = tempfile::tempdir().unwrap();
     let file = dir.path().join("loop.dxf");
     std::fs::write(&file, dxf_bytes(&d).unwrap()).unwrap();
-    for (layer, kind) in [(LAYER_RAIL, PointsAre::Rail), (LAYER_HEARTLINE, PointsAre::Heartline)] {
+    for (layer, kind) in [
+        (LAYER_RAIL, PointsAre::Rail),
+        (LAYER_HEARTLINE, PointsAre::Heartline),
+    ] {
         let c = check_file(&d, &file, Some(layer), kind);
         let w = worst_load_difference(&d, &c);
         eprintln!("DXF {layer} round trip: worst |Δn| = {w:.4} g");
@@ -92,11 +126,24 @@ fn dxf_round_trip_reproduces_the_design_loads() {
 #[test]
 fn smoothing_spline_matches_scipy() {
     let n = 60;
-    let t: Vec<f64> = (0..n).map(|i| i as f64 * 0.37 + 0.05 * ((i * 7 % 5) as f64)).collect();
-    let y: Vec<f64> = t.iter().enumerate().map(|(i, &x)| (0.4 * x).sin() * 3.0 + 0.02 * (((i * 13) % 7) as f64 - 3.0)).collect();
+    let t: Vec<f64> = (0..n)
+        .map(|i| i as f64 * 0.37 + 0.05 * ((i * 7 % 5) as f64))
+        .collect();
+    let y: Vec<f64> = t
+        .iter()
+        .enumerate()
+        .map(|(i, &x)| (0.4 * x).sin() * 3.0 + 0.02 * (((i * 13) % 7) as f64 - 3.0))
+        .collect();
     let dir = tempfile::tempdir().unwrap();
     let (data, ours) = (dir.path().join("data.csv"), dir.path().join("ours.csv"));
-    std::fs::write(&data, t.iter().zip(&y).map(|(a, b)| format!("{a:.17},{b:.17}\n")).collect::<String>()).unwrap();
+    std::fs::write(
+        &data,
+        t.iter()
+            .zip(&y)
+            .map(|(a, b)| format!("{a:.17},{b:.17}\n"))
+            .collect::<String>(),
+    )
+    .unwrap();
     for lam in ["0.01", "3.0"] {
         let s = SmoothingSpline::fit(&t, &y, lam.parse().unwrap());
         let mut rows = String::new();
@@ -106,7 +153,11 @@ fn smoothing_spline_matches_scipy() {
             rows.push_str(&format!("{x:.17},{f:.17},{df:.17},{ddf:.17}\n"));
         }
         std::fs::write(&ours, rows).unwrap();
-        let out = common::python("smoothing_spline_check.py", &[&data], &[lam, ours.to_str().unwrap()]);
+        let out = common::python(
+            "smoothing_spline_check.py",
+            &[&data],
+            &[lam, ours.to_str().unwrap()],
+        );
         eprint!("λ = {lam}: {out}");
         assert!(out.contains("worst"), "{out}");
     }
@@ -132,8 +183,17 @@ mod dxf_reading {
         let r = 5.0;
         let lw = LwPolyline {
             vertices: vec![
-                LwPolylineVertex { x: 0.0, y: 0.0, bulge: 1.0, ..Default::default() },
-                LwPolylineVertex { x: 2.0 * r, y: 0.0, ..Default::default() },
+                LwPolylineVertex {
+                    x: 0.0,
+                    y: 0.0,
+                    bulge: 1.0,
+                    ..Default::default()
+                },
+                LwPolylineVertex {
+                    x: 2.0 * r,
+                    y: 0.0,
+                    ..Default::default()
+                },
             ],
             extrusion_direction: Vector::new(0.0, -1.0, 0.0),
             ..Default::default()
@@ -170,10 +230,16 @@ mod dxf_reading {
         let c = read_centreline(&drawing(dir.path()), Some("ARC-OCS")).unwrap();
         assert_eq!(c.points_m.len(), 17);
         for p in &c.points_m {
-            assert!(p.y.abs() < 1e-12 && ((p.x - 5.0).hypot(p.z) - 5.0).abs() < 1e-9, "{p:?}");
+            assert!(
+                p.y.abs() < 1e-12 && ((p.x - 5.0).hypot(p.z) - 5.0).abs() < 1e-9,
+                "{p:?}"
+            );
         }
         let mid = c.points_m[8];
-        assert!((mid.x - 5.0).abs() < 1e-9 && (mid.z + 5.0).abs() < 1e-9, "{mid:?}");
+        assert!(
+            (mid.x - 5.0).abs() < 1e-9 && (mid.z + 5.0).abs() < 1e-9,
+            "{mid:?}"
+        );
         assert!(c.source.contains("LWPOLYLINE") && c.source.contains("ARC-OCS"));
     }
 
@@ -187,10 +253,18 @@ mod dxf_reading {
         let n = c.points_m.len() - 1;
         for (i, p) in c.points_m.iter().enumerate() {
             let t = i as f64 / n as f64;
-            let b = [(1.0 - t).powi(3), 3.0 * t * (1.0 - t).powi(2), 3.0 * t * t * (1.0 - t), t.powi(3)];
+            let b = [
+                (1.0 - t).powi(3),
+                3.0 * t * (1.0 - t).powi(2),
+                3.0 * t * t * (1.0 - t),
+                t.powi(3),
+            ];
             let x: f64 = (0..4).map(|k| b[k] * ctrl[k].0).sum();
             let z: f64 = (0..4).map(|k| b[k] * ctrl[k].1).sum();
-            assert!((p.x - x).abs() < 1e-12 && (p.z - z).abs() < 1e-12, "{i}: {p:?} vs ({x}, {z})");
+            assert!(
+                (p.x - x).abs() < 1e-12 && (p.z - z).abs() < 1e-12,
+                "{i}: {p:?} vs ({x}, {z})"
+            );
         }
     }
 
@@ -201,8 +275,16 @@ mod dxf_reading {
         let c = read_centreline(&file, Some("POLY3D")).unwrap();
         assert_eq!(c.points_m.len(), 12);
         assert_eq!(c.points_m[11], nalgebra::Vector3::new(11.0, 0.0, 12.1));
-        let e = read_centreline(&file, Some("TRACK")).unwrap_err().to_string();
-        assert!(e.contains("no layer 'TRACK'") && e.contains("ARC-OCS") && e.contains("BEZIER") && e.contains("POLY3D"), "{e}");
+        let e = read_centreline(&file, Some("TRACK"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("no layer 'TRACK'")
+                && e.contains("ARC-OCS")
+                && e.contains("BEZIER")
+                && e.contains("POLY3D"),
+            "{e}"
+        );
         let e = read_centreline(&file, None).unwrap_err().to_string();
         assert!(e.contains("holds 3 curves") && e.contains("--layer"), "{e}");
     }
@@ -222,13 +304,19 @@ mod refusals {
     fn malformed_files_get_clear_messages() {
         assert!(err_of("e.csv", b"").contains("is empty"));
         assert!(err_of("e.dxf", b"").contains("is empty"));
-        assert!(err_of("few.csv", b"x_m,y_m,z_m\n0,0,0\n1,0,0\n2,0,1\n").contains("3 distinct points; at least 8"));
+        assert!(
+            err_of("few.csv", b"x_m,y_m,z_m\n0,0,0\n1,0,0\n2,0,1\n")
+                .contains("3 distinct points; at least 8")
+        );
         let e = err_of("nan.csv", b"x_m,y_m,z_m\n0,0,0\n1,0,NaN\n");
         assert!(e.contains("row 3, z = NaN is not a finite number"), "{e}");
         let e = err_of("inf.csv", b"0,0,0\n1,0,inf\n");
         assert!(e.contains("row 2, z = inf"), "{e}");
         let e = err_of("hdr.csv", b"a,b,c\n1,2,3\n");
-        assert!(e.contains("without x_m, y_m and z_m") && e.contains("found: a, b, c"), "{e}");
+        assert!(
+            e.contains("without x_m, y_m and z_m") && e.contains("found: a, b, c"),
+            "{e}"
+        );
         let e = err_of("txt.csv", b"x_m,y_m,z_m\n0,0,zero\n");
         assert!(e.contains("'zero' is not a number"), "{e}");
         let e = err_of("junk.dxf", b"this is not a drawing\n");
@@ -236,11 +324,20 @@ mod refusals {
         // A file past the size limit is refused from its length, before it is read.
         let dir = tempfile::tempdir().unwrap();
         let big = dir.path().join("big.csv");
-        std::fs::File::create(&big).unwrap().set_len(MAX_FILE_BYTES + 1).unwrap();
+        std::fs::File::create(&big)
+            .unwrap()
+            .set_len(MAX_FILE_BYTES + 1)
+            .unwrap();
         let e = read_centreline(&big, None).unwrap_err().to_string();
-        assert!(e.contains("bytes; check reads centrelines of at most"), "{e}");
+        assert!(
+            e.contains("bytes; check reads centrelines of at most"),
+            "{e}"
+        );
         let missing = read_centreline(&dir.path().join("nope.csv"), None).unwrap_err();
-        assert!(matches!(missing, loopwright::import::ImportError::Io { .. }));
+        assert!(matches!(
+            missing,
+            loopwright::import::ImportError::Io { .. }
+        ));
     }
 
     /// Exit codes through the CLI: 0 pass (outputs written, caution in the JSON), 3 when a limit
@@ -251,10 +348,25 @@ mod refusals {
         let d = demo();
         let dir = tempfile::tempdir().unwrap();
         let f = dir.path().join("edited.csv");
-        write_points(&f, d.best.path.stations.iter().map(|s| (s.heartline_m.x, s.heartline_m.y, s.heartline_m.z)));
+        write_points(
+            &f,
+            d.best
+                .path
+                .stations
+                .iter()
+                .map(|s| (s.heartline_m.x, s.heartline_m.y, s.heartline_m.z)),
+        );
         let out = dir.path().join("out");
         let run = |extra: &[&str]| {
-            let mut a = vec!["loopwright", "check", f.to_str().unwrap(), "--points", "heartline", "--out", out.to_str().unwrap()];
+            let mut a = vec![
+                "loopwright",
+                "check",
+                f.to_str().unwrap(),
+                "--points",
+                "heartline",
+                "--out",
+                out.to_str().unwrap(),
+            ];
             a.extend_from_slice(extra);
             main_with_args(a)
         };
@@ -268,7 +380,10 @@ mod refusals {
         assert_eq!(run(&["--fit-tolerance", "nan"]), EXIT_USAGE);
         assert_eq!(run(&["--layer", "LW-RAIL"]), EXIT_USAGE);
         let missing = dir.path().join("missing.csv");
-        assert_eq!(main_with_args(["loopwright", "check", missing.to_str().unwrap()]), EXIT_IO);
+        assert_eq!(
+            main_with_args(["loopwright", "check", missing.to_str().unwrap()]),
+            EXIT_IO
+        );
     }
 }
 
@@ -285,9 +400,16 @@ fn shipped_examples_run() {
     let brief = BriefInput::from_toml(&text).unwrap().resolve().unwrap();
     let d = design(&brief).expect("the shipped force-first brief is feasible");
     let top = d.best.path.top_index();
-    assert!((d.best.ride.points[top].normal_g - 0.5).abs() < 2e-3, "{}", d.best.ride.points[top].normal_g);
+    assert!(
+        (d.best.ride.points[top].normal_g - 0.5).abs() < 2e-3,
+        "{}",
+        d.best.ride.points[top].normal_g
+    );
     let imported = read_centreline(&root.join("examples/edited-centreline.csv"), None).unwrap();
-    let opts = CheckOptions { points_are: PointsAre::Rail, tolerance_m: 0.001 };
+    let opts = CheckOptions {
+        points_are: PointsAre::Rail,
+        tolerance_m: 0.001,
+    };
     let c = check_centreline(&brief, &imported, "edited", &opts).unwrap();
     assert!(c.verdict.pass);
     // The edit lengthens the path, so compare by turning angle (pitch) rather than arc length:
@@ -295,7 +417,9 @@ fn shipped_examples_run() {
     let th_top = d.best.path.stations[top].pitch_rad;
     let mut curve: Vec<(f64, f64)> = Vec::new();
     for (st, p) in c.path.stations.iter().zip(&c.ride.points) {
-        if st.pitch_rad > curve.last().map_or(1e-3, |l| l.0) && st.pitch_rad < 2.0 * std::f64::consts::PI - 1e-3 {
+        if st.pitch_rad > curve.last().map_or(1e-3, |l| l.0)
+            && st.pitch_rad < 2.0 * std::f64::consts::PI - 1e-3
+        {
             curve.push((st.pitch_rad, p.normal_g));
         }
     }
@@ -305,14 +429,25 @@ fn shipped_examples_run() {
         if th <= curve[0].0 || th >= curve[curve.len() - 1].0 {
             continue;
         }
-        let i = curve.partition_point(|q| q.0 <= th).clamp(1, curve.len() - 1);
+        let i = curve
+            .partition_point(|q| q.0 <= th)
+            .clamp(1, curve.len() - 1);
         let f = (th - curve[i - 1].0) / (curve[i].0 - curve[i - 1].0);
         let dn = (curve[i - 1].1 + f * (curve[i].1 - curve[i - 1].1) - p.normal_g).abs();
         // ±100° of turn about the top holds the edit (its Gaussian reaches ±8 m of rail, and the
         // radius near the top is under 6 m); the first and last 80° are away from it.
-        if (th - th_top).abs() > 100f64.to_radians() { away = away.max(dn) } else { near = near.max(dn) }
+        if (th - th_top).abs() > 100f64.to_radians() {
+            away = away.max(dn)
+        } else {
+            near = near.max(dn)
+        }
     }
-    eprintln!("edited centreline vs its design: worst |Δn| away from the edit {away:.4} g, near it {near:.4} g");
+    eprintln!(
+        "edited centreline vs its design: worst |Δn| away from the edit {away:.4} g, near it {near:.4} g"
+    );
     assert!(away < 0.05, "away {away} g");
-    assert!(near > 0.03, "the 0.12 m edit should show in the loads: {near} g");
+    assert!(
+        near > 0.03,
+        "the 0.12 m edit should show in the loads: {near} g"
+    );
 }

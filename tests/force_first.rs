@@ -38,7 +38,9 @@ fn profile_brief(extra: &str) -> Brief {
 #[test]
 fn constant_load_gives_the_constant_normal_force_track() {
     let n = 3.0;
-    let b = profile_brief("[profile]\nangles_deg = [0.0, 180.0]\nnormal_g = [3.0, 3.0]\ntransition_deg = 0.0\n");
+    let b = profile_brief(
+        "[profile]\nangles_deg = [0.0, 180.0]\nnormal_g = [3.0, 3.0]\ntransition_deg = 0.0\n",
+    );
     let fam = family_for(&b, ShapeKind::Profile);
     let profile = fam.curvature_with_leads(&[n, n], 1.0, 0.0).unwrap();
     let path = Centreline::build(&profile, 1.1, 0.05);
@@ -55,7 +57,10 @@ fn constant_load_gives_the_constant_normal_force_track() {
         worst[1] = worst[1].max((p.speed_m_s - u.sqrt()).abs());
         worst[2] = worst[2].max((st.heartline_m.z - z).abs());
         worst[3] = worst[3].max(((st.curvature_1_m - k) / k).abs());
-        rows.push_str(&format!("{th:.15},{:.12},{:.12}\n", st.heartline_m.x, st.heartline_m.z));
+        rows.push_str(&format!(
+            "{th:.15},{:.12},{:.12}\n",
+            st.heartline_m.x, st.heartline_m.z
+        ));
     }
     assert!(worst[0] < 1e-4, "load off by {} g", worst[0]);
     assert!(worst[1] < 1e-4, "speed off by {} m/s", worst[1]);
@@ -69,7 +74,10 @@ fn constant_load_gives_the_constant_normal_force_track() {
     std::fs::write(&csv, rows).unwrap();
     let out = common::python("constant_load_track.py", &[&csv], &["3.0", "25.0", "1e-4"]);
     eprint!("{out}");
-    eprintln!("worst load {:.2e} g, speed {:.2e} m/s, height {:.2e} m, curvature {:.2e} relative", worst[0], worst[1], worst[2], worst[3]);
+    eprintln!(
+        "worst load {:.2e} g, speed {:.2e} m/s, height {:.2e} m, curvature {:.2e} relative",
+        worst[0], worst[1], worst[2], worst[3]
+    );
     assert!(out.contains("worst"), "{out}");
 }
 
@@ -89,7 +97,11 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     let shape = fam.default_shape();
     let profile = fam.curvature_with_leads(&shape, 1.0, 3.0).unwrap();
     let path = Centreline::build(&profile, 1.1, 0.05);
-    let cond = Conditions { entry_speed_m_s: 25.0, rolling_resistance: b.rolling_resistance, drag_per_metre: b.drag_per_metre() };
+    let cond = Conditions {
+        entry_speed_m_s: 25.0,
+        rolling_resistance: b.rolling_resistance,
+        drag_per_metre: b.drag_per_metre(),
+    };
     let ride = simulate(&path, &cond).unwrap();
     let spec = b.profile.clone().unwrap();
     let target = Profile::new(spec, ride_context(&b)).target(&shape);
@@ -107,13 +119,20 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     // Curvature starts and ends at zero, continuously (no load step), and the loop turns 2π.
     assert!(ride.steps.is_empty(), "{:?}", ride.steps);
     let (s0, s1) = path.loop_span_m;
-    assert!(profile.curvature_1_m(s0).abs() < 1e-12 && profile.curvature_1_m(s1 - 1e-9).abs() < 1e-6);
+    assert!(
+        profile.curvature_1_m(s0).abs() < 1e-12 && profile.curvature_1_m(s1 - 1e-9).abs() < 1e-6
+    );
     assert!((path.stations.last().unwrap().pitch_rad - 2.0 * PI).abs() < 1e-9);
     // The exit height the solver predicted (its own RK4) is where the geometry stage's integration
     // of the curvature pieces ends: two integrations of the same loop agree.
-    let solved = Profile::new(b.profile.clone().unwrap(), ride_context(&b)).solve(&shape).unwrap();
+    let solved = Profile::new(b.profile.clone().unwrap(), ride_context(&b))
+        .solve(&shape)
+        .unwrap();
     let exit_z = path.stations.last().unwrap().heartline_m.z;
-    eprintln!("exit height {exit_z:.6} m, solver {:.6} m", solved.exit_height_m);
+    eprintln!(
+        "exit height {exit_z:.6} m, solver {:.6} m",
+        solved.exit_height_m
+    );
     assert!((exit_z - solved.exit_height_m).abs() < 1e-5);
     for th in [0.1, 0.5, 1.0, 2.0, 3.0, 3.5, 4.5, 6.0] {
         grid.push_str(&format!("{th} {:.12}\n", target.normal_g(th)));
@@ -121,7 +140,14 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join("grid.txt");
     std::fs::write(&f, grid).unwrap();
-    let out = common::python("natural_spline_check.py", &[&f], &["0,40,90,140,180,220,270,320,360", "3.6,3.8,2.4,0.9,0.4,0.9,2.4,3.8,3.6"]);
+    let out = common::python(
+        "natural_spline_check.py",
+        &[&f],
+        &[
+            "0,40,90,140,180,220,270,320,360",
+            "3.6,3.8,2.4,0.9,0.4,0.9,2.4,3.8,3.6",
+        ],
+    );
     assert!(out.contains("worst"), "{out}");
 }
 
@@ -134,8 +160,15 @@ fn solve_err(loads: &[f64], angles: &str, transition: f64, speed: f64) -> String
     .unwrap()
     .profile
     .unwrap();
-    let ride = RideContext { entry_speed_m_s: speed, rolling_resistance: 0.0, drag_per_metre: 0.0 };
-    Profile::new(spec, ride).solve(loads).unwrap_err().to_string()
+    let ride = RideContext {
+        entry_speed_m_s: speed,
+        rolling_resistance: 0.0,
+        drag_per_metre: 0.0,
+    };
+    Profile::new(spec, ride)
+        .solve(loads)
+        .unwrap_err()
+        .to_string()
 }
 
 /// A loop needs κ > 0 all the way round, i.e. n > cos θ (from n = v²κ/g + cos θ): 0.9 g at 25° is
@@ -143,7 +176,10 @@ fn solve_err(loads: &[f64], angles: &str, transition: f64, speed: f64) -> String
 #[test]
 fn load_not_above_cos_theta_is_rejected() {
     let e = solve_err(&[0.9, 0.9], "[0.0, 180.0]", 25.0, 25.0);
-    assert!(e.contains("not above cos θ = 0.906") && e.contains("θ = 25.0°"), "{e}");
+    assert!(
+        e.contains("not above cos θ = 0.906") && e.contains("θ = 25.0°"),
+        "{e}"
+    );
     // Above the top −1 g is the least a loop can have (cos 180° = −1): −0.98 g passes the
     // cos-test at the top, but a dip to −1 g there does not.
     let e = solve_err(&[3.0, -0.2, 1.0], "[0.0, 90.0, 180.0]", 10.0, 25.0);
@@ -163,18 +199,43 @@ fn speed_running_out_is_rejected() {
 fn impossible_profile_exits_infeasible_with_reason() {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join("bad.toml");
-    std::fs::write(&f, "shape = \"profile\"\n[profile]\nangles_deg = [0.0, 180.0]\nnormal_g = [0.9, 0.9]\n").unwrap();
+    std::fs::write(
+        &f,
+        "shape = \"profile\"\n[profile]\nangles_deg = [0.0, 180.0]\nnormal_g = [0.9, 0.9]\n",
+    )
+    .unwrap();
     let out = dir.path().join("out");
-    let code = loopwright::cli::main_with_args(["loopwright", "design", f.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    let code = loopwright::cli::main_with_args([
+        "loopwright",
+        "design",
+        f.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
     assert_eq!(code, loopwright::cli::EXIT_INFEASIBLE);
     // Contradictory tables are usage errors (exit 2) naming the field.
-    std::fs::write(&f, "shape = \"profile\"\n[profile]\nangles_deg = [10.0, 180.0]\nnormal_g = [3.0, 1.0]\n").unwrap();
-    let code = loopwright::cli::main_with_args(["loopwright", "design", f.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    std::fs::write(
+        &f,
+        "shape = \"profile\"\n[profile]\nangles_deg = [10.0, 180.0]\nnormal_g = [3.0, 1.0]\n",
+    )
+    .unwrap();
+    let code = loopwright::cli::main_with_args([
+        "loopwright",
+        "design",
+        f.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
     assert_eq!(code, loopwright::cli::EXIT_USAGE);
-    let e = BriefInput::from_toml("shape = \"profile\"\n[profile]\nangles_deg = [0.0, 90.0, 180.0]\nnormal_g = [3.0, f64::NAN]\n");
+    let e = BriefInput::from_toml(
+        "shape = \"profile\"\n[profile]\nangles_deg = [0.0, 90.0, 180.0]\nnormal_g = [3.0, f64::NAN]\n",
+    );
     assert!(e.is_err());
     let e = BriefInput::from_toml("shape = \"profile\"\n[profile]\nangles_deg = [0.0, 90.0, 180.0]\nnormal_g = [3.0, nan, 1.0]\n").unwrap().resolve().unwrap_err();
-    assert!(e.to_string().contains("profile.normal_g") && e.to_string().contains("not a finite number"), "{e}");
+    assert!(
+        e.to_string().contains("profile.normal_g") && e.to_string().contains("not a finite number"),
+        "{e}"
+    );
 }
 
 /// Tuning: the optimiser adjusts the control loads for the tallest loop within the limits; the
@@ -186,11 +247,15 @@ fn tuned_profile_is_taller_and_meets_the_limits() {
     let mut b = profile_brief(extra);
     b.max_g = 4.0;
     b.min_top_g = 0.3;
-    let as_written = design_family(&b, ShapeKind::Profile).expect("the written loads meet the limits");
+    let as_written =
+        design_family(&b, ShapeKind::Profile).expect("the written loads meet the limits");
     b.profile.as_mut().unwrap().tune = true;
     let tuned = design_family(&b, ShapeKind::Profile).expect("tuning keeps the limits");
     let s = tuned.verification.summary;
-    eprintln!("as written {:.3} m, tuned {:.3} m, peak {:.3} g, top {:.3} g", as_written.best.summary.loop_height_m, s.loop_height_m, s.peak_normal_g, s.top_normal_g);
+    eprintln!(
+        "as written {:.3} m, tuned {:.3} m, peak {:.3} g, top {:.3} g",
+        as_written.best.summary.loop_height_m, s.loop_height_m, s.peak_normal_g, s.top_normal_g
+    );
     assert!(s.peak_normal_g <= 4.0 && s.top_normal_g >= 0.3 && s.peak_onset_g_s <= 8.0);
     assert!(s.loop_height_m > as_written.best.summary.loop_height_m + 0.1);
 }

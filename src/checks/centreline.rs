@@ -61,7 +61,10 @@ pub fn check_centreline(
         rolling_resistance: brief.rolling_resistance,
         drag_per_metre: brief.drag_per_metre(),
     };
-    let ride = simulate(&path, &cond).map_err(|stall| CheckFailure::Stall { speed_m_s: brief.entry_speed_m_s, stall })?;
+    let ride = simulate(&path, &cond).map_err(|stall| CheckFailure::Stall {
+        speed_m_s: brief.entry_speed_m_s,
+        stall,
+    })?;
     let summary = summarise(&path, &ride);
     let verdict = check(&summary, &Limits::from(brief));
     Ok(CheckedCentreline {

@@ -38,8 +38,10 @@ pub fn check_json(c: &CheckedCentreline) -> Result<Vec<u8>, ExportError> {
         checks: &c.verdict.lines,
         brief: &c.brief,
     };
-    let mut v =
-        serde_json::to_vec_pretty(&r).map_err(|e| ExportError::Encode { what: "check report", message: e.to_string() })?;
+    let mut v = serde_json::to_vec_pretty(&r).map_err(|e| ExportError::Encode {
+        what: "check report",
+        message: e.to_string(),
+    })?;
     v.push(b'\n');
     Ok(v)
 }
@@ -49,6 +51,9 @@ pub fn check_files(c: &CheckedCentreline) -> Result<Vec<(String, Vec<u8>)>, Expo
     let name = &c.brief.name;
     Ok(vec![
         (format!("{name}-check.json"), check_json(c)?),
-        (format!("{name}-check-loads.csv"), stations_csv(&c.path, &c.ride)?),
+        (
+            format!("{name}-check-loads.csv"),
+            stations_csv(&c.path, &c.ride)?,
+        ),
     ])
 }

@@ -159,7 +159,9 @@ impl SmoothingSpline {
 
     fn with_factor(t: &[f64], h: &[f64], f: &Factor, y: &[f64], lam: f64) -> SmoothingSpline {
         let n = t.len();
-        let qty: Vec<f64> = (0..n - 2).map(|j| (y[j + 2] - y[j + 1]) / h[j + 1] - (y[j + 1] - y[j]) / h[j]).collect();
+        let qty: Vec<f64> = (0..n - 2)
+            .map(|j| (y[j + 2] - y[j + 1]) / h[j + 1] - (y[j + 1] - y[j]) / h[j])
+            .collect();
         let gamma_inner = f.solve(&qty);
         let mut gamma = vec![0.0; n];
         gamma[1..n - 1].copy_from_slice(&gamma_inner);
@@ -174,16 +176,27 @@ impl SmoothingSpline {
         let coeffs = (0..n - 1)
             .map(|i| {
                 let b = (g[i + 1] - g[i]) / h[i] - h[i] * (2.0 * gamma[i] + gamma[i + 1]) / 6.0;
-                [g[i], b, gamma[i] / 2.0, (gamma[i + 1] - gamma[i]) / (6.0 * h[i])]
+                [
+                    g[i],
+                    b,
+                    gamma[i] / 2.0,
+                    (gamma[i + 1] - gamma[i]) / (6.0 * h[i]),
+                ]
             })
             .collect();
-        SmoothingSpline { knots: t.to_vec(), coeffs }
+        SmoothingSpline {
+            knots: t.to_vec(),
+            coeffs,
+        }
     }
 
     /// Value and first two derivatives at `t`.
     pub fn eval(&self, t: f64) -> [f64; 3] {
         let k = &self.knots;
-        let i = k.partition_point(|&x| x <= t).saturating_sub(1).min(k.len() - 2);
+        let i = k
+            .partition_point(|&x| x <= t)
+            .saturating_sub(1)
+            .min(k.len() - 2);
         let d = t - k[i];
         let c = &self.coeffs[i];
         [
@@ -204,13 +217,19 @@ const GL5: [(f64, f64); 5] = [
 ];
 
 /// Fit the points and sample the result as a centreline.
-pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Centreline, FitReport), FitError> {
+pub fn fit_centreline(
+    points: &[Vector3<f64>],
+    opts: &FitOptions,
+) -> Result<(Centreline, FitReport), FitError> {
     let n = points.len();
     if n < 4 {
         return Err(FitError(format!("{n} points; at least 4 are needed")));
     }
     if !(opts.tolerance_m.is_finite() && opts.tolerance_m > 0.0) {
-        return Err(FitError(format!("tolerance {} m must be a positive number of metres", opts.tolerance_m)));
+        return Err(FitError(format!(
+            "tolerance {} m must be a positive number of metres",
+            opts.tolerance_m
+        )));
     }
     // Best-fit plane.
     let c = points.iter().sum::<Vector3<f64>>() / n as f64;
@@ -221,7 +240,9 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
     let (small, mid) = (eig.eigenvalues[order[0]], eig.eigenvalues[order[1]]);
     let extent = points.iter().map(|p| (p - c).norm()).fold(0.0, f64::max);
     if mid <= 1e-12 * (n as f64) * extent.max(1e-9).powi(2) {
-        return Err(FitError("the points lie on a straight line; there is no loop to check".into()));
+        return Err(FitError(
+            "the points lie on a straight line; there is no loop to check".into(),
+        ));
     }
     let mut normal: Vector3<f64> = eig.eigenvectors.column(order[0]).into_owned();
     let tilt_deg = normal.z.abs().min(1.0).asin().to_degrees();
@@ -230,7 +251,10 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
             "the points' best-fit plane is tilted {tilt_deg:.2}° from vertical (allowed {MAX_TILT_DEG}°); check handles loops drawn in a vertical plane with Z up"
         )));
     }
-    let out_of_plane = points.iter().map(|p| (p - c).dot(&normal).abs()).fold(0.0, f64::max);
+    let out_of_plane = points
+        .iter()
+        .map(|p| (p - c).dot(&normal).abs())
+        .fold(0.0, f64::max);
     let allowed = max_out_of_plane_m(extent);
     if out_of_plane > allowed {
         return Err(FitError(format!(
@@ -260,7 +284,9 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
         let f = factor(&h, lam);
         let sa = SmoothingSpline::with_factor(&t, &h, &f, &a, lam);
         let sz = SmoothingSpline::with_factor(&t, &h, &f, &z, lam);
-        let res: Vec<f64> = (0..n).map(|i| (sa.eval(t[i])[0] - a[i]).hypot(sz.eval(t[i])[0] - z[i])).collect();
+        let res: Vec<f64> = (0..n)
+            .map(|i| (sa.eval(t[i])[0] - a[i]).hypot(sz.eval(t[i])[0] - z[i]))
+            .collect();
         let rms = (res.iter().map(|r| r * r).sum::<f64>() / n as f64).sqrt();
         (sa, sz, rms, res.iter().copied().fold(0.0, f64::max))
     };
@@ -272,7 +298,11 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
     } else {
         for _ in 0..64 {
             let mid = 0.5 * (lo + hi);
-            if fit_at(mid.exp()).2 <= opts.tolerance_m { lo = mid } else { hi = mid }
+            if fit_at(mid.exp()).2 <= opts.tolerance_m {
+                lo = mid
+            } else {
+                hi = mid
+            }
         }
     }
     let lam = lo.exp();
@@ -343,14 +373,21 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
         let dt = (t1 - t0) / k as f64;
         for j in 0..k {
             let a0 = t0 + dt * j as f64;
-            let ds: f64 = GL5.iter().map(|(x, wt)| 0.5 * dt * wt * w(a0 + 0.5 * dt * (x + 1.0))).sum();
+            let ds: f64 = GL5
+                .iter()
+                .map(|(x, wt)| 0.5 * dt * wt * w(a0 + 0.5 * dt * (x + 1.0)))
+                .sum();
             s_h += ds;
             push(a0 + dt, s_h)?;
         }
     }
-    drop(push);
-    let kmax = stations.iter().map(|s| s.curvature_1_m.abs()).fold(0.0, f64::max);
-    let idx: Vec<usize> = (0..stations.len()).filter(|&i| stations[i].curvature_1_m.abs() > LOOP_CURVATURE_FRACTION * kmax).collect();
+    let kmax = stations
+        .iter()
+        .map(|s| s.curvature_1_m.abs())
+        .fold(0.0, f64::max);
+    let idx: Vec<usize> = (0..stations.len())
+        .filter(|&i| stations[i].curvature_1_m.abs() > LOOP_CURVATURE_FRACTION * kmax)
+        .collect();
     let (first, last) = match (idx.first(), idx.last()) {
         (Some(&f), Some(&l)) => (f, l),
         _ => (0, stations.len() - 1),
@@ -370,5 +407,13 @@ pub fn fit_centreline(points: &[Vector3<f64>], opts: &FitOptions) -> Result<(Cen
         max_out_of_plane_m: out_of_plane,
         plane_normal: [normal.x, normal.y, normal.z],
     };
-    Ok((Centreline { stations, steps: Vec::new(), heartline_height_m: opts.heartline_height_m, loop_span_m }, report))
+    Ok((
+        Centreline {
+            stations,
+            steps: Vec::new(),
+            heartline_height_m: opts.heartline_height_m,
+            loop_span_m,
+        },
+        report,
+    ))
 }

@@ -12,7 +12,10 @@ use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::neldermead::NelderMead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use super::{Design, EvalFailure, Evaluation, Infeasible, Nearest, eval_failure, evaluate, family_for, limit_field};
+use super::{
+    Design, EvalFailure, Evaluation, Infeasible, Nearest, eval_failure, evaluate, family_for,
+    limit_field,
+};
 use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::onset_for_limit;
 
@@ -30,13 +33,22 @@ pub struct ProfileCost<'a> {
 impl ProfileCost<'_> {
     /// Parameters clamped into their bounds (Nelder–Mead itself is unbounded).
     pub fn clamp(&self, p: &[f64]) -> Vec<f64> {
-        p.iter().zip(self.bounds).map(|(v, (lo, hi))| v.clamp(*lo, *hi)).collect()
+        p.iter()
+            .zip(self.bounds)
+            .map(|(v, (lo, hi))| v.clamp(*lo, *hi))
+            .collect()
     }
 
     fn coarse(&self, shape: &[f64]) -> Result<Evaluation, EvalFailure> {
         self.counter.fetch_add(1, Ordering::Relaxed);
         // The loop's size is unknown before solving; 0.25 m is coarse for any loop worth riding.
-        evaluate(self.brief, self.kind, shape, 1.0, self.brief.spacing_m.max(0.25))
+        evaluate(
+            self.brief,
+            self.kind,
+            shape,
+            1.0,
+            self.brief.spacing_m.max(0.25),
+        )
     }
 
     /// Sum of limit violations (0 when every limit holds).
@@ -63,11 +75,16 @@ impl ProfileCost<'_> {
         let s = &e.summary;
         match self.brief.objective {
             Objective::Tallest => {
-                let h = self.brief.max_height_m.map_or(s.loop_height_m, |m| s.loop_height_m.min(m));
+                let h = self
+                    .brief
+                    .max_height_m
+                    .map_or(s.loop_height_m, |m| s.loop_height_m.min(m));
                 -h + 1e-3 * s.peak_normal_g + PENALTY * self.violation(&e)
             }
             Objective::Height { height_m } => {
-                s.peak_normal_g + PENALTY * self.violation(&e) + 10.0 * (s.loop_height_m - height_m).abs()
+                s.peak_normal_g
+                    + PENALTY * self.violation(&e)
+                    + 10.0 * (s.loop_height_m - height_m).abs()
             }
         }
     }
@@ -82,29 +99,52 @@ impl CostFunction for ProfileCost<'_> {
 }
 
 /// Control loads tuned for the brief's objective.
-fn tune(brief: &Brief, kind: ShapeKind, x0: Vec<f64>, bounds: &[(f64, f64)], counter: &AtomicUsize) -> Vec<f64> {
-    let problem = ProfileCost { brief, kind, bounds, counter };
+fn tune(
+    brief: &Brief,
+    kind: ShapeKind,
+    x0: Vec<f64>,
+    bounds: &[(f64, f64)],
+    counter: &AtomicUsize,
+) -> Vec<f64> {
+    let problem = ProfileCost {
+        brief,
+        kind,
+        bounds,
+        counter,
+    };
     let mut simplex = vec![x0.clone()];
     for i in 0..x0.len() {
         let mut v = x0.clone();
         // Steps of 0.3 g, inwards at an upper bound.
-        v[i] = if v[i] + 0.3 <= bounds[i].1 { v[i] + 0.3 } else { v[i] - 0.3 };
+        v[i] = if v[i] + 0.3 <= bounds[i].1 {
+            v[i] + 0.3
+        } else {
+            v[i] - 0.3
+        };
         simplex.push(v);
     }
     let found = match NelderMead::new(simplex).with_sd_tolerance(1e-6) {
-        Ok(solver) => Executor::new(ProfileCost { brief, kind, bounds, counter }, solver)
-            .configure(|s| s.max_iters(150))
-            .run()
-            .ok()
-            .and_then(|r| r.state().get_best_param().cloned())
-            .unwrap_or_else(|| x0.clone()),
+        Ok(solver) => Executor::new(
+            ProfileCost {
+                brief,
+                kind,
+                bounds,
+                counter,
+            },
+            solver,
+        )
+        .configure(|s| s.max_iters(150))
+        .run()
+        .ok()
+        .and_then(|r| r.state().get_best_param().cloned())
+        .unwrap_or_else(|| x0.clone()),
         Err(_) => x0.clone(),
     };
     let found = problem.clamp(&found);
-    if let Objective::Height { height_m } = brief.objective {
-        if let Some(shifted) = match_height(&problem, &found, height_m) {
-            return shifted;
-        }
+    if let Objective::Height { height_m } = brief.objective
+        && let Some(shifted) = match_height(&problem, &found, height_m)
+    {
+        return shifted;
     }
     found
 }
@@ -114,7 +154,16 @@ fn match_height(problem: &ProfileCost<'_>, shape: &[f64], height_m: f64) -> Opti
     let at = |c: f64| {
         let p: Vec<f64> = shape.iter().map(|v| v + c).collect();
         let p = problem.clamp(&p);
-        let h = evaluate(problem.brief, problem.kind, &p, 1.0, problem.brief.spacing_m).ok()?.summary.loop_height_m;
+        let h = evaluate(
+            problem.brief,
+            problem.kind,
+            &p,
+            1.0,
+            problem.brief.spacing_m,
+        )
+        .ok()?
+        .summary
+        .loop_height_m;
         Some((p, h))
     };
     // Height falls as the loads rise; bracket the offset within ±3 g.
@@ -135,7 +184,8 @@ fn match_height(problem: &ProfileCost<'_>, shape: &[f64], height_m: f64) -> Opti
             None => lo = mid,
         }
     }
-    best.filter(|(_, h)| (h - height_m).abs() < 1e-3).map(|(p, _)| p)
+    best.filter(|(_, h)| (h - height_m).abs() < 1e-3)
+        .map(|(p, _)| p)
 }
 
 /// Design a force-first loop for the brief.
@@ -143,26 +193,42 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasib
     let fam = family_for(brief, kind);
     let spec = brief.profile.as_ref().ok_or_else(|| Infeasible {
         shape: kind,
-        reasons: vec!["shape = \"profile\" needs a [profile] table with angles_deg and normal_g".into()],
+        reasons: vec![
+            "shape = \"profile\" needs a [profile] table with angles_deg and normal_g".into(),
+        ],
         nearest: vec![],
     })?;
     let counter = AtomicUsize::new(0);
     let shape = if spec.tune {
-        tune(brief, kind, fam.default_shape(), fam.shape_bounds(), &counter)
+        tune(
+            brief,
+            kind,
+            fam.default_shape(),
+            fam.shape_bounds(),
+            &counter,
+        )
     } else {
         fam.default_shape()
     };
-    let best = evaluate(brief, kind, &shape, 1.0, brief.spacing_m).map_err(|e| eval_failure(brief, kind, e))?;
-    let verification =
-        evaluate(brief, kind, &shape, 1.0, brief.spacing_m / 4.0).map_err(|e| eval_failure(brief, kind, e))?;
+    let best = evaluate(brief, kind, &shape, 1.0, brief.spacing_m)
+        .map_err(|e| eval_failure(brief, kind, e))?;
+    let verification = evaluate(brief, kind, &shape, 1.0, brief.spacing_m / 4.0)
+        .map_err(|e| eval_failure(brief, kind, e))?;
     if !verification.verdict.pass || !best.verdict.pass {
         let mut reasons = Vec::new();
         let mut nearest = Vec::new();
         for l in verification.verdict.failures() {
             let (field, unit) = limit_field(l.limit);
-            reasons.push(format!("{} is {:.3} {unit}, limit {field} = {:.3} {unit}", l.label, l.value, l.limit_value));
+            reasons.push(format!(
+                "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
+                l.label, l.value, l.limit_value
+            ));
             if l.value.is_finite() {
-                nearest.push(Nearest { field, value: l.value, unit });
+                nearest.push(Nearest {
+                    field,
+                    value: l.value,
+                    unit,
+                });
             }
         }
         reasons.push(if spec.tune {
@@ -170,7 +236,11 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasib
         } else {
             "the loads were used as written; set tune = true in [profile] to let the optimiser adjust them".into()
         });
-        return Err(Infeasible { shape: kind, reasons, nearest });
+        return Err(Infeasible {
+            shape: kind,
+            reasons,
+            nearest,
+        });
     }
     Ok(Design {
         brief: brief.clone(),

@@ -105,11 +105,17 @@ impl TargetLoad {
             }
         }
         let coeffs = natural_spline(&t, &y);
-        TargetLoad { knots_rad: t, coeffs }
+        TargetLoad {
+            knots_rad: t,
+            coeffs,
+        }
     }
     fn locate(&self, theta: f64) -> (usize, f64) {
         let k = &self.knots_rad;
-        let i = k.partition_point(|&x| x <= theta).saturating_sub(1).min(k.len() - 2);
+        let i = k
+            .partition_point(|&x| x <= theta)
+            .saturating_sub(1)
+            .min(k.len() - 2);
         (i, theta - k[i])
     }
     /// Target load at turning angle `theta` (rad), g.
@@ -160,7 +166,10 @@ fn natural_spline(t: &[f64], y: &[f64]) -> Vec<[f64; 4]> {
 }
 
 fn fail(message: String) -> ShapeError {
-    ShapeError { family: "profile", message }
+    ShapeError {
+        family: "profile",
+        message,
+    }
 }
 
 /// One node of the target part: turn, arc length, position, speed², curvature and its slope.
@@ -185,7 +194,9 @@ impl Profile {
     /// Speed² loss rate and load: d(v²)/ds and n at turn θ, speed² u, curvature κ.
     fn du_ds(&self, theta: f64, u: f64, kappa: f64) -> f64 {
         let n = u * kappa / G + theta.cos();
-        -2.0 * G * theta.sin() - 2.0 * self.ride.rolling_resistance * G * n.abs() - self.ride.drag_per_metre * u
+        -2.0 * G * theta.sin()
+            - 2.0 * self.ride.rolling_resistance * G * n.abs()
+            - self.ride.drag_per_metre * u
     }
 
     /// Integrate the loop for control loads `shape`.
@@ -265,8 +276,13 @@ impl Profile {
             let k = kappa_of(theta, y[2])?;
             // dκ/ds = κ·dκ/dθ, with κ = g(n − cos θ)/u: dκ/dθ = g(n' + sin θ)/u − κ·(du/dθ)/u.
             let du_dtheta = self.du_ds(theta, y[2], k) / k;
-            let dk_dtheta = G * (target.slope_g_rad(theta) + theta.sin()) / y[2] - k * du_dtheta / y[2];
-            Ok(Node { s_m: y[0], kappa_1_m: k, dkappa_ds_1_m2: k * dk_dtheta })
+            let dk_dtheta =
+                G * (target.slope_g_rad(theta) + theta.sin()) / y[2] - k * du_dtheta / y[2];
+            Ok(Node {
+                s_m: y[0],
+                kappa_1_m: k,
+                dkappa_ds_1_m2: k * dk_dtheta,
+            })
         };
         let mut y = [s, z, u];
         let mut prev = node(th_t, y)?;
@@ -317,7 +333,13 @@ impl Profile {
                 seg.coeffs.iter_mut().for_each(|c| *c *= f);
             }
         }
-        Ok(SolvedProfile { segments, exit_height_m: z, top_speed_m_s: top_speed, exit_speed_m_s: u.sqrt(), length_m: s })
+        Ok(SolvedProfile {
+            segments,
+            exit_height_m: z,
+            top_speed_m_s: top_speed,
+            exit_speed_m_s: u.sqrt(),
+            length_m: s,
+        })
     }
 
     /// Entry spiral κ = k_join·t/L from pitch 0: speed² and height at its end (RK4 in arc length).
@@ -329,10 +351,17 @@ impl Profile {
     /// Exit spiral from curvature `k0` to 0 starting at pitch `theta0`: speed² and height gained.
     fn spiral_out(&self, length: f64, k0: f64, u0: f64, theta0: f64) -> Option<(f64, f64)> {
         let c = -k0 / length;
-        self.run_spiral(length, u0, |t| (theta0 + k0 * t + c * t * t / 2.0, k0 + c * t))
+        self.run_spiral(length, u0, |t| {
+            (theta0 + k0 * t + c * t * t / 2.0, k0 + c * t)
+        })
     }
 
-    fn run_spiral(&self, length: f64, u0: f64, pitch_kappa: impl Fn(f64) -> (f64, f64)) -> Option<(f64, f64)> {
+    fn run_spiral(
+        &self,
+        length: f64,
+        u0: f64,
+        pitch_kappa: impl Fn(f64) -> (f64, f64),
+    ) -> Option<(f64, f64)> {
         let h = length / SPIRAL_STEPS as f64;
         let f = |t: f64, u: f64| {
             let (th, k) = pitch_kappa(t);
@@ -369,8 +398,21 @@ fn hermite(a: &Node, b: &Node) -> CurvatureSegment {
 }
 
 const LABELS: [&str; MAX_PROFILE_POINTS] = [
-    "normal_g_1", "normal_g_2", "normal_g_3", "normal_g_4", "normal_g_5", "normal_g_6", "normal_g_7", "normal_g_8",
-    "normal_g_9", "normal_g_10", "normal_g_11", "normal_g_12", "normal_g_13", "normal_g_14", "normal_g_15",
+    "normal_g_1",
+    "normal_g_2",
+    "normal_g_3",
+    "normal_g_4",
+    "normal_g_5",
+    "normal_g_6",
+    "normal_g_7",
+    "normal_g_8",
+    "normal_g_9",
+    "normal_g_10",
+    "normal_g_11",
+    "normal_g_12",
+    "normal_g_13",
+    "normal_g_14",
+    "normal_g_15",
     "normal_g_16",
 ];
 static BOUNDS: [(f64, f64); MAX_PROFILE_POINTS] = [PROFILE_LOAD_RANGE_G; MAX_PROFILE_POINTS];
@@ -387,7 +429,11 @@ impl Default for Profile {
             transition_rad: 20f64.to_radians(),
             tune: false,
         };
-        let ride = RideContext { entry_speed_m_s: defaults::ENTRY_SPEED_M_S, rolling_resistance: 0.0, drag_per_metre: 0.0 };
+        let ride = RideContext {
+            entry_speed_m_s: defaults::ENTRY_SPEED_M_S,
+            rolling_resistance: 0.0,
+            drag_per_metre: 0.0,
+        };
         Profile { spec, ride }
     }
 }
@@ -409,7 +455,11 @@ impl ShapeFamily for Profile {
     }
     /// The loop for these control loads at the ride's speed; `top_radius_m` is ignored (the ride
     /// sets the size).
-    fn loop_segments(&self, shape: &[f64], _top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError> {
+    fn loop_segments(
+        &self,
+        shape: &[f64],
+        _top_radius_m: f64,
+    ) -> Result<Vec<CurvatureSegment>, ShapeError> {
         Ok(self.solve(shape)?.segments)
     }
     fn size_from_ride(&self) -> bool {
