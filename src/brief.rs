@@ -64,7 +64,9 @@ impl ShapeKind {
             .find(|k| k.name() == text.trim().to_ascii_lowercase())
             .ok_or_else(|| BriefError {
                 field: "shape".into(),
-                message: format!("unknown shape family '{text}'; choose one of circle, clothoid, spline, profile"),
+                message: format!(
+                    "unknown shape family '{text}'; choose one of circle, clothoid, spline, profile"
+                ),
             })
     }
 }
@@ -161,31 +163,70 @@ impl ProfileInput {
     pub fn resolve(&self) -> Result<ProfileSpec, BriefError> {
         let symmetric = self.symmetric.unwrap_or(true);
         let end = if symmetric { 180.0 } else { 360.0 };
-        let angles = self.angles_deg.clone().ok_or_else(|| err("profile.angles_deg", "missing; give the control angles in degrees, 0 to 180 (symmetric) or 0 to 360"))?;
-        let loads = self.normal_g.clone().ok_or_else(|| err("profile.normal_g", "missing; give the target normal load in g at each control angle"))?;
+        let angles = self.angles_deg.clone().ok_or_else(|| {
+            err(
+                "profile.angles_deg",
+                "missing; give the control angles in degrees, 0 to 180 (symmetric) or 0 to 360",
+            )
+        })?;
+        let loads = self.normal_g.clone().ok_or_else(|| {
+            err(
+                "profile.normal_g",
+                "missing; give the target normal load in g at each control angle",
+            )
+        })?;
         if angles.len() < 2 || angles.len() > MAX_PROFILE_POINTS {
-            return Err(err("profile.angles_deg", format!("has {} control points; give 2 to {MAX_PROFILE_POINTS}", angles.len())));
+            return Err(err(
+                "profile.angles_deg",
+                format!(
+                    "has {} control points; give 2 to {MAX_PROFILE_POINTS}",
+                    angles.len()
+                ),
+            ));
         }
         if loads.len() != angles.len() {
-            return Err(err("profile.normal_g", format!("has {} values but angles_deg has {}; give one load per angle", loads.len(), angles.len())));
+            return Err(err(
+                "profile.normal_g",
+                format!(
+                    "has {} values but angles_deg has {}; give one load per angle",
+                    loads.len(),
+                    angles.len()
+                ),
+            ));
         }
         for (i, &a) in angles.iter().enumerate() {
             in_range("profile.angles_deg", a, 0.0, end, "degrees")?;
             if i > 0 && a <= angles[i - 1] {
-                return Err(err("profile.angles_deg", format!("{a}° does not rise above {}°; angles must increase", angles[i - 1])));
+                return Err(err(
+                    "profile.angles_deg",
+                    format!(
+                        "{a}° does not rise above {}°; angles must increase",
+                        angles[i - 1]
+                    ),
+                ));
             }
         }
         if angles[0] != 0.0 || angles[angles.len() - 1] != end {
             return Err(err(
                 "profile.angles_deg",
-                format!("must start at 0° and end at {end}° (symmetric = {symmetric}) so the target covers the whole turn; got {}° to {}°", angles[0], angles[angles.len() - 1]),
+                format!(
+                    "must start at 0° and end at {end}° (symmetric = {symmetric}) so the target covers the whole turn; got {}° to {}°",
+                    angles[0],
+                    angles[angles.len() - 1]
+                ),
             ));
         }
         let (lo, hi) = PROFILE_LOAD_RANGE_G;
         for &n in &loads {
             in_range("profile.normal_g", n, lo, hi, "g")?;
         }
-        let transition_deg = in_range("profile.transition_deg", self.transition_deg.unwrap_or(20.0), 0.0, 90.0, "degrees")?;
+        let transition_deg = in_range(
+            "profile.transition_deg",
+            self.transition_deg.unwrap_or(20.0),
+            0.0,
+            90.0,
+            "degrees",
+        )?;
         Ok(ProfileSpec {
             angles_rad: angles.iter().map(|a| a.to_radians()).collect(),
             normal_g: loads,
@@ -253,16 +294,25 @@ pub mod defaults {
 }
 
 fn err(field: &str, message: impl Into<String>) -> BriefError {
-    BriefError { field: field.into(), message: message.into() }
+    BriefError {
+        field: field.into(),
+        message: message.into(),
+    }
 }
 
 /// Check a number is finite and within `[lo, hi]`; the message gives the unit and range.
 fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64, BriefError> {
     if !value.is_finite() {
-        return Err(err(field, format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}")));
+        return Err(err(
+            field,
+            format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}"),
+        ));
     }
     if value < lo || value > hi {
-        return Err(err(field, format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}")));
+        return Err(err(
+            field,
+            format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}"),
+        ));
     }
     Ok(value)
 }
@@ -270,7 +320,8 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
 impl BriefInput {
     /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
     pub fn from_toml(text: &str) -> Result<Self, BriefError> {
-        toml::from_str(text).map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
+        toml::from_str(text)
+            .map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
     }
 
     /// Fields set in `over` replace those in `self` (flags over a file).
@@ -279,9 +330,24 @@ impl BriefInput {
             ($($f:ident),*) => { BriefInput { $($f: over.$f.or(self.$f)),* } };
         }
         pick!(
-            name, title, shape, entry_speed, max_g, min_top_g, max_onset_g_s, max_height_m,
-            min_radius_m, height_m, heartline_height_m, rolling_resistance, drag_area_m2, mass_kg,
-            air_density_kg_m3, lead_length_m, spacing_m, profile
+            name,
+            title,
+            shape,
+            entry_speed,
+            max_g,
+            min_top_g,
+            max_onset_g_s,
+            max_height_m,
+            min_radius_m,
+            height_m,
+            heartline_height_m,
+            rolling_resistance,
+            drag_area_m2,
+            mass_kg,
+            air_density_kg_m3,
+            lead_length_m,
+            spacing_m,
+            profile
         )
     }
 
@@ -291,7 +357,9 @@ impl BriefInput {
         let name = self.name.clone().unwrap_or_else(|| "loop".to_string());
         if name.is_empty()
             || name.len() > 64
-            || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+            || !name
+                .chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
         {
             return Err(err(
                 "name",
@@ -313,11 +381,19 @@ impl BriefInput {
         };
         let entry_speed_m_s = in_range("entry_speed", entry_speed_m_s, 1.0, 150.0, "m/s")?;
         let max_g = in_range("max_g", self.max_g.unwrap_or(d::MAX_G), 1.0, 20.0, "g")?;
-        let min_top_g = in_range("min_top_g", self.min_top_g.unwrap_or(d::MIN_TOP_G), -1.5, 20.0, "g")?;
+        let min_top_g = in_range(
+            "min_top_g",
+            self.min_top_g.unwrap_or(d::MIN_TOP_G),
+            -1.5,
+            20.0,
+            "g",
+        )?;
         if min_top_g >= max_g {
             return Err(err(
                 "min_top_g",
-                format!("{min_top_g} g is not below max_g = {max_g} g; the top load must lie under the peak limit"),
+                format!(
+                    "{min_top_g} g is not below max_g = {max_g} g; the top load must lie under the peak limit"
+                ),
             ));
         }
         let max_onset_g_s = self
@@ -328,18 +404,28 @@ impl BriefInput {
             .max_height_m
             .map(|v| in_range("max_height_m", v, 0.5, 500.0, "m"))
             .transpose()?;
-        let min_radius_m = in_range("min_radius_m", self.min_radius_m.unwrap_or(d::MIN_RADIUS_M), 0.1, 500.0, "m")?;
+        let min_radius_m = in_range(
+            "min_radius_m",
+            self.min_radius_m.unwrap_or(d::MIN_RADIUS_M),
+            0.1,
+            500.0,
+            "m",
+        )?;
         let objective = match self.height_m {
             None => Objective::Tallest,
-            Some(h) => Objective::Height { height_m: in_range("height_m", h, 0.5, 500.0, "m")? },
+            Some(h) => Objective::Height {
+                height_m: in_range("height_m", h, 0.5, 500.0, "m")?,
+            },
         };
-        if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m) {
-            if height_m > max_h {
-                return Err(err(
-                    "height_m",
-                    format!("{height_m} m is above max_height_m = {max_h} m; the two contradict each other"),
-                ));
-            }
+        if let (Objective::Height { height_m }, Some(max_h)) = (objective, max_height_m)
+            && height_m > max_h
+        {
+            return Err(err(
+                "height_m",
+                format!(
+                    "{height_m} m is above max_height_m = {max_h} m; the two contradict each other"
+                ),
+            ));
         }
         let heartline_height_m = in_range(
             "heartline_height_m",
@@ -359,7 +445,10 @@ impl BriefInput {
         let profile = match (shape, &self.profile) {
             (ShapeKind::Profile, Some(p)) => Some(p.resolve()?),
             (ShapeKind::Profile, None) => {
-                return Err(err("profile", "shape = \"profile\" needs a [profile] table with angles_deg and normal_g (see examples/profile-brief.toml)"));
+                return Err(err(
+                    "profile",
+                    "shape = \"profile\" needs a [profile] table with angles_deg and normal_g (see examples/profile-brief.toml)",
+                ));
             }
             // A table for another family is kept out of the brief but not an error: a user may
             // switch families with --shape and keep the file as it is.
@@ -385,8 +474,20 @@ impl BriefInput {
                 0.5,
                 "(dimensionless)",
             )?,
-            drag_area_m2: in_range("drag_area_m2", self.drag_area_m2.unwrap_or(d::DRAG_AREA_M2), 0.0, 50.0, "m²")?,
-            mass_kg: in_range("mass_kg", self.mass_kg.unwrap_or(d::MASS_KG), 10.0, 1.0e6, "kg")?,
+            drag_area_m2: in_range(
+                "drag_area_m2",
+                self.drag_area_m2.unwrap_or(d::DRAG_AREA_M2),
+                0.0,
+                50.0,
+                "m²",
+            )?,
+            mass_kg: in_range(
+                "mass_kg",
+                self.mass_kg.unwrap_or(d::MASS_KG),
+                10.0,
+                1.0e6,
+                "kg",
+            )?,
             air_density_kg_m3: in_range(
                 "air_density_kg_m3",
                 self.air_density_kg_m3.unwrap_or(d::AIR_DENSITY_KG_M3),
@@ -394,8 +495,20 @@ impl BriefInput {
                 2.0,
                 "kg/m³",
             )?,
-            lead_length_m: in_range("lead_length_m", self.lead_length_m.unwrap_or(d::LEAD_LENGTH_M), 0.0, 200.0, "m")?,
-            spacing_m: in_range("spacing_m", self.spacing_m.unwrap_or(d::SPACING_M), 0.005, 1.0, "m")?,
+            lead_length_m: in_range(
+                "lead_length_m",
+                self.lead_length_m.unwrap_or(d::LEAD_LENGTH_M),
+                0.0,
+                200.0,
+                "m",
+            )?,
+            spacing_m: in_range(
+                "spacing_m",
+                self.spacing_m.unwrap_or(d::SPACING_M),
+                0.005,
+                1.0,
+                "m",
+            )?,
         })
     }
 }

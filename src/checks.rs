@@ -71,8 +71,12 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
     let top = path.top_index();
     let in_loop: Vec<usize> = (0..st.len()).filter(|&i| st[i].in_loop).collect();
     let (first, last) = (in_loop[0], in_loop[in_loop.len() - 1]);
-    let peak = (0..pts.len()).max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g)).unwrap_or(0);
-    let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| (0..pts.len()).map(f).fold(init, pick);
+    let peak = (0..pts.len())
+        .max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g))
+        .unwrap_or(0);
+    let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| {
+        (0..pts.len()).map(f).fold(init, pick)
+    };
     Summary {
         loop_height_m: path.loop_height_m(),
         rail_height_m: path.rail_height_m(),
@@ -86,7 +90,11 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
         top_speed_m_s: pts[top].speed_m_s,
         top_s_m: pts[top].s_m,
         peak_onset_g_s: fold(&|i| pts[i].onset_g_s.abs(), 0.0, f64::max),
-        max_load_step_g: ride.steps.iter().map(|s| s.jump_g.abs()).fold(0.0, f64::max),
+        max_load_step_g: ride
+            .steps
+            .iter()
+            .map(|s| s.jump_g.abs())
+            .fold(0.0, f64::max),
         peak_lateral_g: fold(&|i| pts[i].lateral_g.abs(), 0.0, f64::max),
         min_tangential_g: fold(&|i| pts[i].tangential_g, f64::MAX, f64::min),
         exit_speed_m_s: pts[last].speed_m_s,
@@ -135,25 +143,76 @@ impl Verdict {
 
 /// The design's onset figure for the onset limit: unbounded if the load steps anywhere.
 pub fn onset_for_limit(s: &Summary) -> f64 {
-    if s.max_load_step_g > 1e-9 { f64::INFINITY } else { s.peak_onset_g_s }
+    if s.max_load_step_g > 1e-9 {
+        f64::INFINITY
+    } else {
+        s.peak_onset_g_s
+    }
 }
 
 /// Compare a summary with limits.
 pub fn check(s: &Summary, limits: &Limits) -> Verdict {
     let mut lines = Vec::new();
     let mut line = |limit, label: &str, value: f64, limit_value: f64, unit, upper: bool| {
-        let margin = if upper { limit_value - value } else { value - limit_value };
-        lines.push(CheckLine { limit, label: label.into(), value, limit_value, unit, margin, pass: margin >= 0.0 });
+        let margin = if upper {
+            limit_value - value
+        } else {
+            value - limit_value
+        };
+        lines.push(CheckLine {
+            limit,
+            label: label.into(),
+            value,
+            limit_value,
+            unit,
+            margin,
+            pass: margin >= 0.0,
+        });
     };
-    line(LimitKind::MaxG, "peak normal load", s.peak_normal_g, limits.max_g, "g", true);
-    line(LimitKind::MinTopG, "normal load at the top", s.top_normal_g, limits.min_top_g, "g", false);
+    line(
+        LimitKind::MaxG,
+        "peak normal load",
+        s.peak_normal_g,
+        limits.max_g,
+        "g",
+        true,
+    );
+    line(
+        LimitKind::MinTopG,
+        "normal load at the top",
+        s.top_normal_g,
+        limits.min_top_g,
+        "g",
+        false,
+    );
     if let Some(max) = limits.max_onset_g_s {
-        line(LimitKind::MaxOnset, "peak onset", onset_for_limit(s), max, "g/s", true);
+        line(
+            LimitKind::MaxOnset,
+            "peak onset",
+            onset_for_limit(s),
+            max,
+            "g/s",
+            true,
+        );
     }
     if let Some(max) = limits.max_height_m {
-        line(LimitKind::MaxHeight, "loop height (heartline)", s.loop_height_m, max, "m", true);
+        line(
+            LimitKind::MaxHeight,
+            "loop height (heartline)",
+            s.loop_height_m,
+            max,
+            "m",
+            true,
+        );
     }
-    line(LimitKind::MinRadius, "smallest radius (heartline)", s.min_radius_m, limits.min_radius_m, "m", false);
+    line(
+        LimitKind::MinRadius,
+        "smallest radius (heartline)",
+        s.min_radius_m,
+        limits.min_radius_m,
+        "m",
+        false,
+    );
     let pass = lines.iter().all(|l| l.pass);
     Verdict { lines, pass }
 }

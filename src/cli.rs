@@ -22,12 +22,18 @@ pub const EXIT_INFEASIBLE: i32 = 3;
 pub const EXIT_IO: i32 = 4;
 
 #[derive(Debug, Parser)]
-#[command(name = "loopwright", version, about = "Vertical-loop geometry for roller-coaster concept studies.")]
+#[command(
+    name = "loopwright",
+    version,
+    about = "Vertical-loop geometry for roller-coaster concept studies."
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
 }
 
+// Parsed once per process; boxing the large variant would buy nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Design one loop for a brief and write DXF, SVG, CSV and JSON.
@@ -166,13 +172,17 @@ impl CliError {
 
 impl From<BriefError> for CliError {
     fn from(e: BriefError) -> Self {
-        CliError::Usage(format!("{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"))
+        CliError::Usage(format!(
+            "{e}\nhint: fix the field in the brief file or pass the flag; see `loopwright design --help`"
+        ))
     }
 }
 
 impl From<ExportError> for CliError {
     fn from(e: ExportError) -> Self {
-        CliError::Io(format!("{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"))
+        CliError::Io(format!(
+            "{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"
+        ))
     }
 }
 
@@ -193,7 +203,8 @@ pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
                     meta.len()
                 )));
             }
-            std::fs::read_to_string(p).map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
+            std::fs::read_to_string(p)
+                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
         }
     };
     BriefInput::from_toml(&text).map_err(|e| {
@@ -270,7 +281,19 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
         let stem: String = args
             .path
             .file_stem()
-            .map(|s| s.to_string_lossy().chars().map(|c| if c.is_ascii_alphanumeric() || c == '-' || c == '_' { c } else { '_' }).take(64).collect())
+            .map(|s| {
+                s.to_string_lossy()
+                    .chars()
+                    .map(|c| {
+                        if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                            c
+                        } else {
+                            '_'
+                        }
+                    })
+                    .take(64)
+                    .collect()
+            })
             .unwrap_or_default();
         brief.name = if stem.is_empty() { "loop".into() } else { stem };
     }
@@ -288,7 +311,9 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
     let file = args.path.display().to_string();
     let checked = check_centreline(&brief, &imported, &file, &opts).map_err(|e| match e {
         CheckFailure::Fit(f) => CliError::Usage(format!("{file}: {f}")),
-        stall @ CheckFailure::Stall { .. } => CliError::Fails(format!("{file}: {stall}\n{}", crate::report::CAUTION)),
+        stall @ CheckFailure::Stall { .. } => {
+            CliError::Fails(format!("{file}: {stall}\n{}", crate::report::CAUTION))
+        }
     })?;
     let files = crate::export::check::check_files(&checked)?;
     let written = crate::export::write_files(files, &args.out)?;

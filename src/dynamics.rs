@@ -20,7 +20,7 @@
 //! let ride = simulate(&c, &Conditions::lossless(25.0)).unwrap();
 //! // Bottom of a circle entered at v: n = 1 + v²/(gR).
 //! let g = loopwright::units::STANDARD_GRAVITY_M_S2;
-//! assert!((ride.points[1].normal_g - (1.0 + 625.0 / (g * 10.0))).abs() < 1e-9);
+//! assert!((ride.points[0].normal_g - (1.0 + 625.0 / (g * 10.0))).abs() < 1e-9);
 //! ```
 
 use nalgebra::Vector3;
@@ -41,7 +41,11 @@ pub struct Conditions {
 impl Conditions {
     /// No rolling resistance, no drag.
     pub fn lossless(entry_speed_m_s: f64) -> Self {
-        Self { entry_speed_m_s, rolling_resistance: 0.0, drag_per_metre: 0.0 }
+        Self {
+            entry_speed_m_s,
+            rolling_resistance: 0.0,
+            drag_per_metre: 0.0,
+        }
     }
 }
 
@@ -115,7 +119,10 @@ pub fn simulate(path: &Centreline, cond: &Conditions) -> Result<Ride, Stall> {
         losses += 0.5 * ds * (rate[i - 1] + r_pred);
         u[i] = u_free - losses;
         if u[i] <= 0.0 {
-            return Err(Stall { s_m: st[i].s_m, height_m: st[i].heartline_m.z - z0 });
+            return Err(Stall {
+                s_m: st[i].s_m,
+                height_m: st[i].heartline_m.z - z0,
+            });
         }
         rate[i] = loss_rate(u[i], i);
     }
@@ -150,11 +157,14 @@ fn fill_onset(path: &Centreline, points: &mut [LoadPoint]) {
     let st = &path.stations;
     let n = points.len();
     for i in 0..n {
-        let same = |j: usize| st[j].piece == st[i].piece && (points[j].time_s - points[i].time_s).abs() > 0.0;
+        let same = |j: usize| {
+            st[j].piece == st[i].piece && (points[j].time_s - points[i].time_s).abs() > 0.0
+        };
         let lo = if i > 0 && same(i - 1) { i - 1 } else { i };
         let hi = if i + 1 < n && same(i + 1) { i + 1 } else { i };
         if lo != hi {
-            points[i].onset_g_s = (points[hi].normal_g - points[lo].normal_g) / (points[hi].time_s - points[lo].time_s);
+            points[i].onset_g_s = (points[hi].normal_g - points[lo].normal_g)
+                / (points[hi].time_s - points[lo].time_s);
         }
     }
 }
@@ -163,7 +173,10 @@ fn steps_of(path: &Centreline, points: &[LoadPoint]) -> Vec<LoadStep> {
     let st = &path.stations;
     (1..points.len())
         .filter(|&i| st[i].piece != st[i - 1].piece)
-        .map(|i| LoadStep { s_m: st[i].s_m, jump_g: points[i].normal_g - points[i - 1].normal_g })
+        .map(|i| LoadStep {
+            s_m: st[i].s_m,
+            jump_g: points[i].normal_g - points[i - 1].normal_g,
+        })
         .collect()
 }
 
@@ -174,7 +187,13 @@ mod tests {
     use crate::shape::family;
 
     fn circle(r: f64) -> Centreline {
-        Centreline::build(&family(ShapeKind::Circle).curvature_with_leads(&[], r, 3.0).unwrap(), 1.1, 0.05)
+        Centreline::build(
+            &family(ShapeKind::Circle)
+                .curvature_with_leads(&[], r, 3.0)
+                .unwrap(),
+            1.1,
+            0.05,
+        )
     }
 
     // Textbook vertical circular motion (e.g. Halliday, Resnick & Walker, "Fundamentals of
@@ -214,7 +233,11 @@ mod tests {
     #[test]
     fn lossless_energy_is_conserved() {
         let f = family(ShapeKind::Clothoid);
-        let path = Centreline::build(&f.curvature_with_leads(&[0.6], 7.0, 5.0).unwrap(), 1.1, 0.05);
+        let path = Centreline::build(
+            &f.curvature_with_leads(&[0.6], 7.0, 5.0).unwrap(),
+            1.1,
+            0.05,
+        );
         let ride = simulate(&path, &Conditions::lossless(24.0)).unwrap();
         let e0 = 0.5 * 24.0f64.powi(2);
         for (p, s) in ride.points.iter().zip(&path.stations) {
@@ -231,10 +254,22 @@ mod tests {
         let p = CurvatureProfile::new(vec![CurvatureSegment::straight(200.0)], (0, 0));
         let path = Centreline::build(&p, 1.1, 0.05);
         let k = 1.225 * 1.0 / 5000.0;
-        let ride = simulate(&path, &Conditions { entry_speed_m_s: 20.0, rolling_resistance: 0.0, drag_per_metre: k }).unwrap();
+        let ride = simulate(
+            &path,
+            &Conditions {
+                entry_speed_m_s: 20.0,
+                rolling_resistance: 0.0,
+                drag_per_metre: k,
+            },
+        )
+        .unwrap();
         let last = ride.points.last().unwrap();
         let expect = (400.0 * (-k * 200.0f64).exp()).sqrt();
-        assert!((last.speed_m_s - expect).abs() < 1e-6, "{} vs {expect}", last.speed_m_s);
+        assert!(
+            (last.speed_m_s - expect).abs() < 1e-6,
+            "{} vs {expect}",
+            last.speed_m_s
+        );
     }
 
     // Rolling resistance alone on level track: d(v²)/ds = −2μg, so v² = v₀² − 2μg·s (first principles).
@@ -243,7 +278,15 @@ mod tests {
         use crate::shape::{CurvatureProfile, CurvatureSegment};
         let p = CurvatureProfile::new(vec![CurvatureSegment::straight(100.0)], (0, 0));
         let path = Centreline::build(&p, 1.1, 0.05);
-        let ride = simulate(&path, &Conditions { entry_speed_m_s: 20.0, rolling_resistance: 0.02, drag_per_metre: 0.0 }).unwrap();
+        let ride = simulate(
+            &path,
+            &Conditions {
+                entry_speed_m_s: 20.0,
+                rolling_resistance: 0.02,
+                drag_per_metre: 0.0,
+            },
+        )
+        .unwrap();
         let expect = (400.0 - 2.0 * 0.02 * G * 100.0f64).sqrt();
         assert!((ride.points.last().unwrap().speed_m_s - expect).abs() < 1e-9);
         assert!((ride.points[10].tangential_g + 0.02).abs() < 1e-12);

@@ -75,10 +75,10 @@ pub struct Centreline {
 const GL8: [(f64, f64); 8] = [
     (-0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
     (-0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
-    (-0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
-    (-0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
-    (0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
-    (0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
+    (-0.525_532_409_916_329, 0.313_706_645_877_887),
+    (-0.183_434_642_495_65, 0.362_683_783_378_362),
+    (0.183_434_642_495_65, 0.362_683_783_378_362),
+    (0.525_532_409_916_329, 0.313_706_645_877_887),
     (0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
     (0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
 ];
@@ -90,7 +90,10 @@ pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64
         SegmentKind::Straight => (t * theta0.cos(), t * theta0.sin()),
         SegmentKind::Arc if k0.abs() > 1e-300 => {
             let th = theta0 + k0 * t;
-            ((th.sin() - theta0.sin()) / k0, (theta0.cos() - th.cos()) / k0)
+            (
+                (th.sin() - theta0.sin()) / k0,
+                (theta0.cos() - th.cos()) / k0,
+            )
         }
         SegmentKind::Clothoid => clothoid_displacement(theta0, k0, seg.coeffs[1], t)
             .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
@@ -124,7 +127,12 @@ pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f6
 }
 
 /// Displacement from local `t0` to `t1` by 8-point Gauss–Legendre on each of a few sub-intervals.
-pub fn quadrature_displacement(seg: &CurvatureSegment, theta0: f64, t0: f64, t1: f64) -> (f64, f64) {
+pub fn quadrature_displacement(
+    seg: &CurvatureSegment,
+    theta0: f64,
+    t0: f64,
+    t1: f64,
+) -> (f64, f64) {
     let parts = (((t1 - t0).abs() / 0.25).ceil() as usize).clamp(1, 100_000);
     let h = (t1 - t0) / parts as f64;
     let (mut dx, mut dz) = (0.0, 0.0);
@@ -144,7 +152,11 @@ impl Centreline {
     /// Sample `profile` every `spacing_m` or closer (every segment boundary is a station) and build
     /// heartline, rail and frames. At a curvature step the boundary appears twice, once with the
     /// curvature before and once after, so the step in load is visible in the table.
-    pub fn build(profile: &CurvatureProfile, heartline_height_m: f64, spacing_m: f64) -> Centreline {
+    pub fn build(
+        profile: &CurvatureProfile,
+        heartline_height_m: f64,
+        spacing_m: f64,
+    ) -> Centreline {
         let mut stations = Vec::new();
         let mut steps = Vec::new();
         let (mut x, mut z) = (0.0, 0.0);
@@ -161,7 +173,11 @@ impl Centreline {
             let first = match prev_end_curv {
                 None => 0,
                 Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
-                    steps.push(CurvatureStep { s_m: s0, before_1_m: k_prev, after_1_m: k_start });
+                    steps.push(CurvatureStep {
+                        s_m: s0,
+                        before_1_m: k_prev,
+                        after_1_m: k_start,
+                    });
                     piece += 1;
                     0
                 }
@@ -194,12 +210,21 @@ impl Centreline {
                     in_loop,
                 ));
             }
-            let (dx, dz) = if seg.kind == SegmentKind::Cubic { acc } else { segment_displacement(seg, theta0, seg.length_m) };
+            let (dx, dz) = if seg.kind == SegmentKind::Cubic {
+                acc
+            } else {
+                segment_displacement(seg, theta0, seg.length_m)
+            };
             x += dx;
             z += dz;
             prev_end_curv = Some(seg.curvature_1_m(seg.length_m));
         }
-        Centreline { stations, steps, heartline_height_m, loop_span_m }
+        Centreline {
+            stations,
+            steps,
+            heartline_height_m,
+            loop_span_m,
+        }
     }
 
     /// The highest heartline station.
@@ -223,7 +248,11 @@ impl Centreline {
 
     /// Height of the rail's highest point above the rail at entry, m.
     pub fn rail_height_m(&self) -> f64 {
-        let top = self.stations.iter().map(|s| s.rail_m.z).fold(f64::MIN, f64::max);
+        let top = self
+            .stations
+            .iter()
+            .map(|s| s.rail_m.z)
+            .fold(f64::MIN, f64::max);
         top - self.stations[0].rail_m.z
     }
 
@@ -234,7 +263,11 @@ impl Centreline {
 
     /// Smallest heartline radius of curvature on the loop, m.
     pub fn min_radius_m(&self) -> f64 {
-        1.0 / self.stations.iter().map(|s| s.curvature_vec_1_m.norm()).fold(0.0, f64::max)
+        1.0 / self
+            .stations
+            .iter()
+            .map(|s| s.curvature_vec_1_m.norm())
+            .fold(0.0, f64::max)
     }
 }
 
@@ -280,11 +313,18 @@ mod tests {
     // Euler spiral; they must agree to near machine precision (numerical analysis, no source needed).
     #[test]
     fn fresnel_and_quadrature_agree_on_clothoids() {
-        for &(theta0, k0, c, t) in &[(0.0, 0.0, 0.01, 30.0), (1.0, 0.1, -0.004, 25.0), (2.5, 0.05, 0.002, 12.0)] {
+        for &(theta0, k0, c, t) in &[
+            (0.0, 0.0, 0.01, 30.0),
+            (1.0, 0.1, -0.004, 25.0),
+            (2.5, 0.05, 0.002, 12.0),
+        ] {
             let seg = CurvatureSegment::clothoid(t, k0, k0 + c * t);
             let (fx, fz) = clothoid_displacement(theta0, k0, c, t).unwrap();
             let (qx, qz) = quadrature_displacement(&seg, theta0, 0.0, t);
-            assert!((fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10, "{fx} {qx} {fz} {qz}");
+            assert!(
+                (fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10,
+                "{fx} {qx} {fz} {qz}"
+            );
         }
     }
 
@@ -293,10 +333,16 @@ mod tests {
     fn loops_leave_level_at_entry_height() {
         for kind in ShapeKind::ALL {
             let f = family(kind);
-            let p = f.curvature_with_leads(&f.default_shape(), 8.0, 5.0).unwrap();
+            let p = f
+                .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
+                .unwrap();
             let c = Centreline::build(&p, 1.1, 0.05);
             let last = c.stations.last().unwrap();
-            assert!(last.heartline_m.z.abs() < 1e-9, "{kind}: exit z = {}", last.heartline_m.z);
+            assert!(
+                last.heartline_m.z.abs() < 1e-9,
+                "{kind}: exit z = {}",
+                last.heartline_m.z
+            );
             assert!((last.pitch_rad - 2.0 * PI).abs() < 1e-12);
             // The rail sits heartline_height below the heartline on level track.
             assert!((last.rail_m.z + 1.1).abs() < 1e-12);

@@ -87,11 +87,23 @@ pub struct Infeasible {
 
 impl fmt::Display for Infeasible {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "no {} loop meets the brief: {}", self.shape, self.reasons.join("; "))?;
+        write!(
+            f,
+            "no {} loop meets the brief: {}",
+            self.shape,
+            self.reasons.join("; ")
+        )?;
         if !self.nearest.is_empty() {
-            let alts: Vec<String> =
-                self.nearest.iter().map(|n| format!("{} = {:.3} {}", n.field, n.value, n.unit)).collect();
-            write!(f, ". Nearest feasible, each on its own: {}", alts.join(" or "))?;
+            let alts: Vec<String> = self
+                .nearest
+                .iter()
+                .map(|n| format!("{} = {:.3} {}", n.field, n.value, n.unit))
+                .collect();
+            write!(
+                f,
+                ". Nearest feasible, each on its own: {}",
+                alts.join(" or ")
+            )?;
         }
         Ok(())
     }
@@ -113,12 +125,26 @@ pub fn evaluate(
         .map_err(|e| EvalFailure::Shape(e.to_string()))?;
     let path = Centreline::build(&profile, brief.heartline_height_m, spacing_m);
     // A force-first loop's size comes from the ride: report the top radius it actually has.
-    let top_radius_m = if fam.size_from_ride() { 1.0 / path.top().curvature_1_m } else { top_radius_m };
+    let top_radius_m = if fam.size_from_ride() {
+        1.0 / path.top().curvature_1_m
+    } else {
+        top_radius_m
+    };
     let cond = conditions(brief);
     let ride = simulate(&path, &cond).map_err(EvalFailure::Stall)?;
     let summary = summarise(&path, &ride);
     let verdict = check(&summary, &Limits::from(brief));
-    Ok(Evaluation { kind, shape: shape.to_vec(), top_radius_m, spacing_m, profile, path, ride, summary, verdict })
+    Ok(Evaluation {
+        kind,
+        shape: shape.to_vec(),
+        top_radius_m,
+        spacing_m,
+        profile,
+        path,
+        ride,
+        summary,
+        verdict,
+    })
 }
 
 /// Why a loop could not be evaluated at all.
@@ -132,7 +158,9 @@ pub enum EvalFailure {
 /// load profile and ride (entry speed and losses); the others are pure geometry.
 pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
     match (kind, &brief.profile) {
-        (ShapeKind::Profile, Some(spec)) => Box::new(Profile::new(spec.clone(), ride_context(brief))),
+        (ShapeKind::Profile, Some(spec)) => {
+            Box::new(Profile::new(spec.clone(), ride_context(brief)))
+        }
         _ => family(kind),
     }
 }
@@ -141,10 +169,18 @@ pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
 /// starts (as for every family); the loop proper starts after the losses of the level lead-in,
 /// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
 pub fn ride_context(brief: &Brief) -> RideContext {
-    let (mu, k, l) = (brief.rolling_resistance, brief.drag_per_metre(), brief.lead_length_m);
+    let (mu, k, l) = (
+        brief.rolling_resistance,
+        brief.drag_per_metre(),
+        brief.lead_length_m,
+    );
     let g = crate::units::STANDARD_GRAVITY_M_S2;
     let u0 = brief.entry_speed_m_s.powi(2);
-    let u = if k > 0.0 { (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k } else { u0 - 2.0 * mu * g * l };
+    let u = if k > 0.0 {
+        (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k
+    } else {
+        u0 - 2.0 * mu * g * l
+    };
     RideContext {
         entry_speed_m_s: u.max(0.0).sqrt(),
         rolling_resistance: brief.rolling_resistance,
@@ -210,7 +246,11 @@ pub struct SizeMargin<'a> {
 
 impl SizeMargin<'_> {
     fn spacing(&self, r: f64) -> f64 {
-        if self.fine { self.brief.spacing_m } else { self.brief.spacing_m.max(r / COARSE_STATIONS_PER_RADIUS) }
+        if self.fine {
+            self.brief.spacing_m
+        } else {
+            self.brief.spacing_m.max(r / COARSE_STATIONS_PER_RADIUS)
+        }
     }
     fn eval(&self, ln_r: f64) -> Result<Evaluation, EvalFailure> {
         self.counter.fetch_add(1, Ordering::Relaxed);
@@ -230,8 +270,15 @@ impl CostFunction for SizeMargin<'_> {
 /// Root of a margin between `a` (sign sa) and `b`, by argmin's Brent method.
 fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> f64 {
     let solver = BrentRoot::new(a.min(b), a.max(b), 1e-8);
-    match Executor::new(problem, solver).configure(|s| s.max_iters(100)).run() {
-        Ok(res) => res.state().get_best_param().copied().unwrap_or(0.5 * (a + b)),
+    match Executor::new(problem, solver)
+        .configure(|s| s.max_iters(100))
+        .run()
+    {
+        Ok(res) => res
+            .state()
+            .get_best_param()
+            .copied()
+            .unwrap_or(0.5 * (a + b)),
         Err(_) => 0.5 * (a + b),
     }
 }
@@ -253,15 +300,31 @@ pub enum SizeRange {
 fn radius_grid(brief: &Brief) -> Vec<f64> {
     let lo = (0.25 * brief.min_radius_m).max(0.05);
     // The largest loop worth considering: the height energy allows, with some room.
-    let hi = (brief.entry_speed_m_s.powi(2) / (2.0 * crate::units::STANDARD_GRAVITY_M_S2)).max(4.0 * lo);
+    let hi =
+        (brief.entry_speed_m_s.powi(2) / (2.0 * crate::units::STANDARD_GRAVITY_M_S2)).max(4.0 * lo);
     let n = 28;
-    (0..n).map(|i| lo * (hi / lo).powf(i as f64 / (n - 1) as f64)).collect()
+    (0..n)
+        .map(|i| lo * (hi / lo).powf(i as f64 / (n - 1) as f64))
+        .collect()
 }
 
 /// Find the feasible top-radius interval of one shape.
-pub fn size_range(brief: &Brief, kind: ShapeKind, shape: &[f64], fine: bool, counter: &AtomicUsize) -> SizeRange {
+pub fn size_range(
+    brief: &Brief,
+    kind: ShapeKind,
+    shape: &[f64],
+    fine: bool,
+    counter: &AtomicUsize,
+) -> SizeRange {
     let grid = radius_grid(brief);
-    let mk = |side| SizeMargin { brief, kind, shape, side, fine, counter };
+    let mk = |side| SizeMargin {
+        brief,
+        kind,
+        shape,
+        side,
+        fine,
+        counter,
+    };
     let up = mk(Side::Upper);
     let mut up_m = Vec::with_capacity(grid.len());
     let mut low_m = Vec::with_capacity(grid.len());
@@ -285,7 +348,11 @@ pub fn size_range(brief: &Brief, kind: ShapeKind, shape: &[f64], fine: bool, cou
         Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln()).exp(),
         None => return SizeRange::LowerFailsEverywhere { hi_m: hi },
     };
-    if lo <= hi { SizeRange::Feasible { lo_m: lo, hi_m: hi } } else { SizeRange::Gap { lo_m: lo, hi_m: hi } }
+    if lo <= hi {
+        SizeRange::Feasible { lo_m: lo, hi_m: hi }
+    } else {
+        SizeRange::Gap { lo_m: lo, hi_m: hi }
+    }
 }
 
 /// Heartline height per metre of top radius for a shape (geometry only; loops of one shape are similar).
@@ -303,7 +370,11 @@ pub struct ShapeCost<'a> {
 
 impl ShapeCost<'_> {
     fn in_bounds(&self, shape: &[f64]) -> bool {
-        family(self.kind).shape_bounds().iter().zip(shape).all(|((lo, hi), v)| v >= lo && v <= hi)
+        family(self.kind)
+            .shape_bounds()
+            .iter()
+            .zip(shape)
+            .all(|((lo, hi), v)| v >= lo && v <= hi)
     }
 
     /// Cost of a shape: lower is better; feasible shapes cost below 1e3.
@@ -312,25 +383,41 @@ impl ShapeCost<'_> {
             return 1e6;
         }
         match self.brief.objective {
-            Objective::Tallest => match size_range(self.brief, self.kind, shape, false, self.counter) {
-                SizeRange::Feasible { hi_m, .. } => {
-                    let h = height_per_radius(self.kind, shape).unwrap_or(0.0) * hi_m;
-                    let h = self.brief.max_height_m.map_or(h, |m| h.min(m));
-                    // Among equally tall loops (height capped), prefer the lower peak load.
-                    let peak = match evaluate(self.brief, self.kind, shape, hi_m, self.brief.spacing_m.max(hi_m / COARSE_STATIONS_PER_RADIUS)) {
-                        Ok(e) => e.summary.peak_normal_g,
-                        Err(_) => 0.0,
-                    };
-                    -h + 1e-3 * peak
+            Objective::Tallest => {
+                match size_range(self.brief, self.kind, shape, false, self.counter) {
+                    SizeRange::Feasible { hi_m, .. } => {
+                        let h = height_per_radius(self.kind, shape).unwrap_or(0.0) * hi_m;
+                        let h = self.brief.max_height_m.map_or(h, |m| h.min(m));
+                        // Among equally tall loops (height capped), prefer the lower peak load.
+                        let peak = match evaluate(
+                            self.brief,
+                            self.kind,
+                            shape,
+                            hi_m,
+                            self.brief.spacing_m.max(hi_m / COARSE_STATIONS_PER_RADIUS),
+                        ) {
+                            Ok(e) => e.summary.peak_normal_g,
+                            Err(_) => 0.0,
+                        };
+                        -h + 1e-3 * peak
+                    }
+                    SizeRange::Gap { lo_m, hi_m } => 1e3 + (lo_m / hi_m).ln(),
+                    SizeRange::UpperFailsEverywhere | SizeRange::LowerFailsEverywhere { .. } => 1e5,
                 }
-                SizeRange::Gap { lo_m, hi_m } => 1e3 + (lo_m / hi_m).ln(),
-                SizeRange::UpperFailsEverywhere | SizeRange::LowerFailsEverywhere { .. } => 1e5,
-            },
+            }
             Objective::Height { height_m } => {
-                let Some(h1) = height_per_radius(self.kind, shape) else { return 1e6 };
+                let Some(h1) = height_per_radius(self.kind, shape) else {
+                    return 1e6;
+                };
                 let r = height_m / h1;
                 self.counter.fetch_add(1, Ordering::Relaxed);
-                match evaluate(self.brief, self.kind, shape, r, self.brief.spacing_m.max(r / COARSE_STATIONS_PER_RADIUS)) {
+                match evaluate(
+                    self.brief,
+                    self.kind,
+                    shape,
+                    r,
+                    self.brief.spacing_m.max(r / COARSE_STATIONS_PER_RADIUS),
+                ) {
                     Ok(e) => {
                         let s = &e.summary;
                         let mut penalty = (self.brief.min_top_g - s.top_normal_g).max(0.0)
@@ -370,7 +457,11 @@ impl CostFunction for ShapeCost1<'_> {
 /// Best shape parameters found by the outer search.
 fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> Vec<f64> {
     let bounds = fam.shape_bounds();
-    let problem = ShapeCost { brief, kind: fam.kind(), counter };
+    let problem = ShapeCost {
+        brief,
+        kind: fam.kind(),
+        counter,
+    };
     match bounds.len() {
         0 => Vec::new(),
         1 => {
@@ -380,7 +471,11 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
             let best = scan
                 .iter()
                 .copied()
-                .min_by(|a, b| problem.shape_cost(&[*a]).total_cmp(&problem.shape_cost(&[*b])))
+                .min_by(|a, b| {
+                    problem
+                        .shape_cost(&[*a])
+                        .total_cmp(&problem.shape_cost(&[*b]))
+                })
                 .unwrap_or(lo);
             let step = (hi - lo) / 8.0;
             let (a, b) = ((best - step).max(lo), (best + step).min(hi));
@@ -391,8 +486,16 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
                 .ok()
                 .and_then(|r| r.state().get_best_param().copied())
                 .unwrap_or(best);
-            let check = ShapeCost { brief, kind: fam.kind(), counter };
-            if check.shape_cost(&[found]) <= check.shape_cost(&[best]) { vec![found] } else { vec![best] }
+            let check = ShapeCost {
+                brief,
+                kind: fam.kind(),
+                counter,
+            };
+            if check.shape_cost(&[found]) <= check.shape_cost(&[best]) {
+                vec![found]
+            } else {
+                vec![best]
+            }
         }
         _ => {
             let x0 = fam.default_shape();
@@ -403,7 +506,9 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
                 v[i] = (v[i] + 0.15 * (hi - lo)).min(hi);
                 simplex.push(v);
             }
-            let solver = NelderMead::new(simplex).with_sd_tolerance(1e-6).expect("positive tolerance");
+            let solver = NelderMead::new(simplex)
+                .with_sd_tolerance(1e-6)
+                .expect("positive tolerance");
             Executor::new(problem, solver)
                 .configure(|s| s.max_iters(80))
                 .run()
@@ -433,14 +538,22 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
             other => return Err(explain_tallest(brief, kind, &shape, other, &counter)),
         },
         Objective::Height { height_m } => {
-            height_m / height_per_radius(kind, &shape).ok_or_else(|| shape_failure(kind, "no geometry"))?
+            height_m
+                / height_per_radius(kind, &shape)
+                    .ok_or_else(|| shape_failure(kind, "no geometry"))?
         }
     };
-    let best = evaluate(brief, kind, &shape, r, brief.spacing_m).map_err(|e| eval_failure(brief, kind, e))?;
-    let verification =
-        evaluate(brief, kind, &shape, r, brief.spacing_m / 4.0).map_err(|e| eval_failure(brief, kind, e))?;
+    let best = evaluate(brief, kind, &shape, r, brief.spacing_m)
+        .map_err(|e| eval_failure(brief, kind, e))?;
+    let verification = evaluate(brief, kind, &shape, r, brief.spacing_m / 4.0)
+        .map_err(|e| eval_failure(brief, kind, e))?;
     if !verification.verdict.pass || !best.verdict.pass {
-        return Err(explain_failed_checks(brief, kind, &verification.verdict, &counter));
+        return Err(explain_failed_checks(
+            brief,
+            kind,
+            &verification.verdict,
+            &counter,
+        ));
     }
     Ok(Design {
         brief: brief.clone(),
@@ -452,7 +565,11 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
 }
 
 fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {
-    Infeasible { shape: kind, reasons: vec![msg.to_string()], nearest: vec![] }
+    Infeasible {
+        shape: kind,
+        reasons: vec![msg.to_string()],
+        nearest: vec![],
+    }
 }
 
 fn eval_failure(brief: &Brief, kind: ShapeKind, e: EvalFailure) -> Infeasible {
@@ -478,14 +595,26 @@ fn limit_field(kind: crate::checks::LimitKind) -> (&'static str, &'static str) {
 }
 
 /// Explain a verdict's failures and suggest, for each, the limit value that the design would meet.
-fn explain_failed_checks(brief: &Brief, kind: ShapeKind, v: &Verdict, counter: &AtomicUsize) -> Infeasible {
+fn explain_failed_checks(
+    brief: &Brief,
+    kind: ShapeKind,
+    v: &Verdict,
+    counter: &AtomicUsize,
+) -> Infeasible {
     let mut reasons = Vec::new();
     let mut nearest = Vec::new();
     for l in v.failures() {
         let (field, unit) = limit_field(l.limit);
         if l.value.is_finite() {
-            reasons.push(format!("{} is {:.3} {unit}, limit {field} = {:.3} {unit}", l.label, l.value, l.limit_value));
-            nearest.push(Nearest { field, value: l.value, unit });
+            reasons.push(format!(
+                "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
+                l.label, l.value, l.limit_value
+            ));
+            nearest.push(Nearest {
+                field,
+                value: l.value,
+                unit,
+            });
         } else {
             reasons.push(format!(
                 "{} is unbounded: the curvature steps where the loop meets straight track (limit {field} = {:.3} {unit})",
@@ -495,7 +624,11 @@ fn explain_failed_checks(brief: &Brief, kind: ShapeKind, v: &Verdict, counter: &
     }
     if let Objective::Height { height_m } = brief.objective {
         if let Some(v) = min_speed_for_height(brief, kind, counter) {
-            nearest.push(Nearest { field: "entry_speed", value: v, unit: "m/s" });
+            nearest.push(Nearest {
+                field: "entry_speed",
+                value: v,
+                unit: "m/s",
+            });
         }
         let mut tall = brief.clone();
         tall.objective = Objective::Tallest;
@@ -504,13 +637,21 @@ fn explain_failed_checks(brief: &Brief, kind: ShapeKind, v: &Verdict, counter: &
                 "the tallest {kind} loop these limits allow at {:.2} m/s is {:.2} m (asked for {height_m:.2} m)",
                 brief.entry_speed_m_s, d.best.summary.loop_height_m
             ));
-            nearest.push(Nearest { field: "height_m", value: d.best.summary.loop_height_m, unit: "m" });
+            nearest.push(Nearest {
+                field: "height_m",
+                value: d.best.summary.loop_height_m,
+                unit: "m",
+            });
         }
     }
     if reasons.is_empty() {
         reasons.push("the design failed its final re-check at finer sampling".into());
     }
-    Infeasible { shape: kind, reasons, nearest }
+    Infeasible {
+        shape: kind,
+        reasons,
+        nearest,
+    }
 }
 
 /// Lowest entry speed at which a loop of the brief's target height meets every limit, by bisection.
@@ -543,13 +684,25 @@ fn design_family_quiet(brief: &Brief, kind: ShapeKind) -> bool {
     let counter = AtomicUsize::new(0);
     let fam = family(kind);
     let shape = search_shape(brief, fam.as_ref(), &counter);
-    let Objective::Height { height_m } = brief.objective else { return false };
-    let Some(h1) = height_per_radius(kind, &shape) else { return false };
-    evaluate(brief, kind, &shape, height_m / h1, brief.spacing_m).map(|e| e.verdict.pass).unwrap_or(false)
+    let Objective::Height { height_m } = brief.objective else {
+        return false;
+    };
+    let Some(h1) = height_per_radius(kind, &shape) else {
+        return false;
+    };
+    evaluate(brief, kind, &shape, height_m / h1, brief.spacing_m)
+        .map(|e| e.verdict.pass)
+        .unwrap_or(false)
 }
 
 /// Explain why no size of the best shape meets the brief (tallest objective).
-fn explain_tallest(brief: &Brief, kind: ShapeKind, shape: &[f64], range: SizeRange, counter: &AtomicUsize) -> Infeasible {
+fn explain_tallest(
+    brief: &Brief,
+    kind: ShapeKind,
+    shape: &[f64],
+    range: SizeRange,
+    counter: &AtomicUsize,
+) -> Infeasible {
     let at = |r: f64| evaluate(brief, kind, shape, r, brief.spacing_m);
     let mut reasons = Vec::new();
     let mut nearest = Vec::new();
@@ -592,7 +745,10 @@ fn explain_tallest(brief: &Brief, kind: ShapeKind, shape: &[f64], range: SizeRan
         }
         SizeRange::LowerFailsEverywhere { hi_m } => {
             if let Ok(e) = at(hi_m) {
-                reasons.push(format!("at every size {}", describe_lower_failures(brief, &e.summary, &mut nearest)));
+                reasons.push(format!(
+                    "at every size {}",
+                    describe_lower_failures(brief, &e.summary, &mut nearest)
+                ));
             } else {
                 reasons.push("no size meets the peak-load, onset and radius limits".into());
             }
@@ -603,7 +759,10 @@ fn explain_tallest(brief: &Brief, kind: ShapeKind, shape: &[f64], range: SizeRan
     let ok = |v: f64| {
         let mut b = brief.clone();
         b.entry_speed_m_s = v;
-        matches!(size_range(&b, kind, shape, true, counter), SizeRange::Feasible { .. })
+        matches!(
+            size_range(&b, kind, shape, true, counter),
+            SizeRange::Feasible { .. }
+        )
     };
     if !matches!(range, SizeRange::LowerFailsEverywhere { .. }) && !ok(brief.entry_speed_m_s) {
         let (mut lo, mut hi) = (brief.entry_speed_m_s, brief.entry_speed_m_s * 1.5);
@@ -612,28 +771,49 @@ fn explain_tallest(brief: &Brief, kind: ShapeKind, shape: &[f64], range: SizeRan
                 let mid = 0.5 * (lo + hi);
                 if ok(mid) { hi = mid } else { lo = mid }
             }
-            nearest.push(Nearest { field: "entry_speed", value: hi, unit: "m/s" });
+            nearest.push(Nearest {
+                field: "entry_speed",
+                value: hi,
+                unit: "m/s",
+            });
         }
     }
     if reasons.is_empty() {
         reasons.push("no size meets every limit".into());
     }
-    Infeasible { shape: kind, reasons, nearest }
+    Infeasible {
+        shape: kind,
+        reasons,
+        nearest,
+    }
 }
 
 /// Say which of the peak-load, onset and radius limits fail in `s`, and record the value that would pass.
 fn describe_lower_failures(brief: &Brief, s: &Summary, nearest: &mut Vec<Nearest>) -> String {
     let mut parts = Vec::new();
     if s.peak_normal_g > brief.max_g {
-        parts.push(format!("the peak normal load is {:.3} g, above max_g = {:.3} g", s.peak_normal_g, brief.max_g));
-        nearest.push(Nearest { field: "max_g", value: s.peak_normal_g, unit: "g" });
+        parts.push(format!(
+            "the peak normal load is {:.3} g, above max_g = {:.3} g",
+            s.peak_normal_g, brief.max_g
+        ));
+        nearest.push(Nearest {
+            field: "max_g",
+            value: s.peak_normal_g,
+            unit: "g",
+        });
     }
     if let Some(o) = brief.max_onset_g_s {
         let v = onset_for_limit(s);
         if v > o {
             if v.is_finite() {
-                parts.push(format!("the peak onset is {v:.3} g/s, above max_onset_g_s = {o:.3} g/s"));
-                nearest.push(Nearest { field: "max_onset_g_s", value: v, unit: "g/s" });
+                parts.push(format!(
+                    "the peak onset is {v:.3} g/s, above max_onset_g_s = {o:.3} g/s"
+                ));
+                nearest.push(Nearest {
+                    field: "max_onset_g_s",
+                    value: v,
+                    unit: "g/s",
+                });
             } else {
                 parts.push(format!(
                     "the onset is unbounded where the curvature steps from straight track (a {:.3} g jump); no circular loop meets max_onset_g_s = {o:.3} g/s",
@@ -643,10 +823,21 @@ fn describe_lower_failures(brief: &Brief, s: &Summary, nearest: &mut Vec<Nearest
         }
     }
     if s.min_radius_m < brief.min_radius_m {
-        parts.push(format!("the smallest radius is {:.3} m, below min_radius_m = {:.3} m", s.min_radius_m, brief.min_radius_m));
-        nearest.push(Nearest { field: "min_radius_m", value: s.min_radius_m, unit: "m" });
+        parts.push(format!(
+            "the smallest radius is {:.3} m, below min_radius_m = {:.3} m",
+            s.min_radius_m, brief.min_radius_m
+        ));
+        nearest.push(Nearest {
+            field: "min_radius_m",
+            value: s.min_radius_m,
+            unit: "m",
+        });
     }
-    if parts.is_empty() { "the limits conflict".into() } else { parts.join(" and ") }
+    if parts.is_empty() {
+        "the limits conflict".into()
+    } else {
+        parts.join(" and ")
+    }
 }
 
 /// Total heartline turn of a family's loop, rad (2π by construction; used by tests).

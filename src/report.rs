@@ -14,31 +14,82 @@ pub fn terminal_summary(d: &Design) -> String {
     let b = &d.brief;
     let mut out = String::new();
     let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
-    out.push_str(&format!("loopwright design: {} ({})\n", b.title, d.best.kind));
+    out.push_str(&format!(
+        "loopwright design: {} ({})\n",
+        b.title, d.best.kind
+    ));
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
-    row(&mut out, "loop height (heartline)", format!("{:.2} m", s.loop_height_m));
-    row(&mut out, "loop height (rail)", format!("{:.2} m", s.rail_height_m));
-    row(&mut out, "path length in loop (heartline)", format!("{:.2} m", s.path_length_m));
-    row(&mut out, "top radius (heartline)", format!("{:.2} m", d.best.top_radius_m));
-    row(&mut out, "smallest radius (heartline)", format!("{:.2} m", s.min_radius_m));
-    row(&mut out, "peak normal load", format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m));
-    row(&mut out, "normal load at the top", format!("{:.3} g", s.top_normal_g));
-    row(&mut out, "speed at the top", describe_speed(s.top_speed_m_s));
+    row(
+        &mut out,
+        "loop height (heartline)",
+        format!("{:.2} m", s.loop_height_m),
+    );
+    row(
+        &mut out,
+        "loop height (rail)",
+        format!("{:.2} m", s.rail_height_m),
+    );
+    row(
+        &mut out,
+        "path length in loop (heartline)",
+        format!("{:.2} m", s.path_length_m),
+    );
+    row(
+        &mut out,
+        "top radius (heartline)",
+        format!("{:.2} m", d.best.top_radius_m),
+    );
+    row(
+        &mut out,
+        "smallest radius (heartline)",
+        format!("{:.2} m", s.min_radius_m),
+    );
+    row(
+        &mut out,
+        "peak normal load",
+        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+    );
+    row(
+        &mut out,
+        "normal load at the top",
+        format!("{:.3} g", s.top_normal_g),
+    );
+    row(
+        &mut out,
+        "speed at the top",
+        describe_speed(s.top_speed_m_s),
+    );
     let onset = if s.max_load_step_g > 1e-9 {
-        format!("{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)", s.peak_onset_g_s, s.max_load_step_g)
+        format!(
+            "{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)",
+            s.peak_onset_g_s, s.max_load_step_g
+        )
     } else {
         format!("{:.2} g/s", s.peak_onset_g_s)
     };
     row(&mut out, "peak onset", onset);
-    row(&mut out, "time in loop", format!("{:.2} s", s.time_in_loop_s));
+    row(
+        &mut out,
+        "time in loop",
+        format!("{:.2} s", s.time_in_loop_s),
+    );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
     if !d.shape_labels.is_empty() {
-        let p: Vec<String> = d.shape_labels.iter().zip(&d.best.shape).map(|(l, v)| format!("{l} = {v:.4}")).collect();
+        let p: Vec<String> = d
+            .shape_labels
+            .iter()
+            .zip(&d.best.shape)
+            .map(|(l, v)| format!("{l} = {v:.4}"))
+            .collect();
         row(&mut out, "shape parameters", p.join(", "));
     }
     out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
     for l in &d.verification.verdict.lines {
-        let value = if l.value.is_finite() { format!("{:.3}", l.value) } else { "unbounded".into() };
+        let value = if l.value.is_finite() {
+            format!("{:.3}", l.value)
+        } else {
+            "unbounded".into()
+        };
         out.push_str(&format!(
             "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
             if l.pass { "ok" } else { "FAIL" },
@@ -58,28 +109,88 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
     let mut out = String::new();
     let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
     out.push_str(&format!("loopwright check: {} ({})\n", c.file, c.source));
-    row(&mut out, "points read as", format!("{:?} ({} points)", f.points_are, f.points).to_lowercase());
+    row(
+        &mut out,
+        "points read as",
+        format!("{:?} ({} points)", f.points_are, f.points).to_lowercase(),
+    );
     row(
         &mut out,
         "smoothing spline fit",
-        format!("RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS)", f.rms_residual_m * 1e3, f.max_residual_m * 1e3, f.tolerance_m * 1e3),
+        format!(
+            "RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS)",
+            f.rms_residual_m * 1e3,
+            f.max_residual_m * 1e3,
+            f.tolerance_m * 1e3
+        ),
     );
-    row(&mut out, "plane", format!("tilt {:.3}° from vertical, points within {:.3} m of it", f.plane_tilt_deg, f.max_out_of_plane_m));
+    row(
+        &mut out,
+        "plane",
+        format!(
+            "tilt {:.3}° from vertical, points within {:.3} m of it",
+            f.plane_tilt_deg, f.max_out_of_plane_m
+        ),
+    );
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
-    row(&mut out, "loop height (heartline)", format!("{:.2} m", s.loop_height_m));
-    row(&mut out, "loop height (rail)", format!("{:.2} m", s.rail_height_m));
-    row(&mut out, "path length in loop (heartline)", format!("{:.2} m", s.path_length_m));
-    row(&mut out, "smallest radius (heartline)", format!("{:.2} m", s.min_radius_m));
-    row(&mut out, "peak normal load", format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m));
-    row(&mut out, "least normal load", format!("{:.3} g", s.min_normal_g));
-    row(&mut out, "normal load at the top", format!("{:.3} g", s.top_normal_g));
-    row(&mut out, "speed at the top", describe_speed(s.top_speed_m_s));
-    row(&mut out, "peak onset", format!("{:.2} g/s", s.peak_onset_g_s));
-    row(&mut out, "peak lateral load", format!("{:.3} g", s.peak_lateral_g));
+    row(
+        &mut out,
+        "loop height (heartline)",
+        format!("{:.2} m", s.loop_height_m),
+    );
+    row(
+        &mut out,
+        "loop height (rail)",
+        format!("{:.2} m", s.rail_height_m),
+    );
+    row(
+        &mut out,
+        "path length in loop (heartline)",
+        format!("{:.2} m", s.path_length_m),
+    );
+    row(
+        &mut out,
+        "smallest radius (heartline)",
+        format!("{:.2} m", s.min_radius_m),
+    );
+    row(
+        &mut out,
+        "peak normal load",
+        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+    );
+    row(
+        &mut out,
+        "least normal load",
+        format!("{:.3} g", s.min_normal_g),
+    );
+    row(
+        &mut out,
+        "normal load at the top",
+        format!("{:.3} g", s.top_normal_g),
+    );
+    row(
+        &mut out,
+        "speed at the top",
+        describe_speed(s.top_speed_m_s),
+    );
+    row(
+        &mut out,
+        "peak onset",
+        format!("{:.2} g/s", s.peak_onset_g_s),
+    );
+    row(
+        &mut out,
+        "peak lateral load",
+        format!("{:.3} g", s.peak_lateral_g),
+    );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
     out.push_str("  checks:\n");
     for l in &c.verdict.lines {
-        let value = if l.value.is_finite() { format!("{:.3}", l.value) } else { "unbounded".into() };
+        let value = if l.value.is_finite() {
+            format!("{:.3}", l.value)
+        } else {
+            "unbounded".into()
+        };
         out.push_str(&format!(
             "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
             if l.pass { "ok" } else { "FAIL" },

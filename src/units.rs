@@ -20,7 +20,9 @@ pub const STANDARD_GRAVITY_M_S2: f64 = 9.806_65;
 pub fn parse_speed_m_s(text: &str) -> Result<f64, String> {
     let t = text.trim();
     let split = t
-        .find(|c: char| !(c.is_ascii_digit() || c == '.' || c == '-' || c == '+' || c == 'e' || c == 'E'))
+        .find(|c: char| {
+            !(c.is_ascii_digit() || c == '.' || c == '-' || c == '+' || c == 'e' || c == 'E')
+        })
         .unwrap_or(t.len());
     // "1e" followed by a unit letter would be mis-split; numbers with exponents and units are rare
     // enough that we only accept the split when the number part parses.
@@ -36,7 +38,7 @@ pub fn parse_speed_m_s(text: &str) -> Result<f64, String> {
         other => {
             return Err(format!(
                 "unknown speed unit '{other}' in '{text}'; use m/s (default), km/h or mph"
-            ))
+            ));
         }
     };
     Ok(value * factor)

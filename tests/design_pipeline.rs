@@ -20,7 +20,8 @@ fn lossless(mut b: Brief) -> Brief {
 /// shows the same loads within 0.05 g.
 #[test]
 fn clothoid_demo_design_survives_independent_resimulation() {
-    let text = "entry_speed = 25.0\nmax_g = 4.5\nmin_top_g = 0.2\nshape = \"clothoid\"\nname = \"floor\"";
+    let text =
+        "entry_speed = 25.0\nmax_g = 4.5\nmin_top_g = 0.2\nshape = \"clothoid\"\nname = \"floor\"";
     let brief = BriefInput::from_toml(text).unwrap().resolve().unwrap();
     let d = design(&brief).expect("the issue's clothoid brief is feasible");
     let s = d.verification.summary;
@@ -45,7 +46,11 @@ fn tallest_lossless_circle_is_the_closed_form() {
     let v: f64 = 25.0;
     let r = v * v / (G * (5.0 + 0.2));
     // The search keeps 1e-4 g inside the limit, i.e. dR/R ≈ 1e-4/5.2.
-    assert!((d.best.top_radius_m - r).abs() / r < 5e-5, "{} vs {r}", d.best.top_radius_m);
+    assert!(
+        (d.best.top_radius_m - r).abs() / r < 5e-5,
+        "{} vs {r}",
+        d.best.top_radius_m
+    );
     assert!((d.best.summary.loop_height_m - 2.0 * r).abs() < 2e-3);
     assert!((d.best.summary.top_normal_g - 0.2).abs() < 2e-4);
     assert!((d.best.summary.peak_normal_g - 6.2).abs() < 2e-4);
@@ -58,7 +63,12 @@ fn circle_below_six_plus_top_is_infeasible_with_that_reason() {
     let err = design_family(&b, ShapeKind::Circle).unwrap_err();
     let text = err.to_string();
     assert!(text.contains("6 + n_top"), "{text}");
-    let need = err.nearest.iter().find(|n| n.field == "max_g").expect("suggests a max_g").value;
+    let need = err
+        .nearest
+        .iter()
+        .find(|n| n.field == "max_g")
+        .expect("suggests a max_g")
+        .value;
     assert!((need - 6.2).abs() < 1e-3, "nearest max_g {need}");
 }
 
@@ -71,7 +81,9 @@ fn circle_of_requested_height_has_closed_form_loads() {
     let d = design_family(&b, ShapeKind::Circle).unwrap();
     let v: f64 = 25.0;
     assert!((d.best.summary.peak_normal_g - (1.0 + v * v / (G * 10.0))).abs() < 1e-9);
-    assert!((d.best.summary.top_normal_g - ((v * v - 4.0 * G * 10.0) / (G * 10.0) - 1.0)).abs() < 1e-9);
+    assert!(
+        (d.best.summary.top_normal_g - ((v * v - 4.0 * G * 10.0) / (G * 10.0) - 1.0)).abs() < 1e-9
+    );
 }
 
 /// Every family designs the demo brief and the reported design meets every limit at 4x sampling.
@@ -101,7 +113,11 @@ fn circle_with_losses_matches_brute_force_rk4() {
     let r = 9.0;
     let p = family(ShapeKind::Circle).curvature(&[], r).unwrap();
     let path = Centreline::build(&p, 1.1, 0.02);
-    let cond = Conditions { entry_speed_m_s: 26.0, rolling_resistance: 0.02, drag_per_metre: 2.0e-4 };
+    let cond = Conditions {
+        entry_speed_m_s: 26.0,
+        rolling_resistance: 0.02,
+        drag_per_metre: 2.0e-4,
+    };
     let ride = simulate(&path, &cond).unwrap();
     // RK4 on u(φ) with s = Rφ, θ = φ, n = u/(gR) + cos φ.
     let f = |phi: f64, u: f64| {

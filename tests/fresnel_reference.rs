@@ -31,8 +31,18 @@ fn fresnel_matches_mpmath_to_near_machine_precision() {
     for line in text.lines().skip(1) {
         let v: Vec<f64> = line.split(',').map(|t| t.parse().unwrap()).collect();
         let (s, c) = fresnel::fresnl(v[0]);
-        assert!((c - v[1]).abs() < 2e-15, "C({}) = {c}, mpmath {}", v[0], v[1]);
-        assert!((s - v[2]).abs() < 2e-15, "S({}) = {s}, mpmath {}", v[0], v[2]);
+        assert!(
+            (c - v[1]).abs() < 2e-15,
+            "C({}) = {c}, mpmath {}",
+            v[0],
+            v[1]
+        );
+        assert!(
+            (s - v[2]).abs() < 2e-15,
+            "S({}) = {s}, mpmath {}",
+            v[0],
+            v[2]
+        );
         n += 1;
     }
     assert!(n > 150);

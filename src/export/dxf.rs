@@ -14,6 +14,7 @@ use dxf::{Color, Drawing, Point, Vector};
 use nalgebra::Vector3;
 
 use super::ExportError;
+use super::plot::{clean_text, wrap};
 use crate::optimiser::Design;
 use crate::report::CAUTION;
 
@@ -124,7 +125,8 @@ pub fn dxf_bytes(design: &Design) -> Result<Vec<u8>, ExportError> {
         let text = Text {
             location: Point::new(lo.x, note_z(k), 0.0),
             text_height: height,
-            value: line.clone(),
+            // Control characters would reach CAD as ^-escapes; spaces read better.
+            value: clean_text(line),
             normal: Vector::new(0.0, -1.0, 0.0),
             ..Default::default()
         };
@@ -186,25 +188,6 @@ pub fn thin_indices(len: usize, top: usize, max: usize) -> Vec<usize> {
     idx
 }
 
-/// Split `text` at spaces into lines of at most `width` characters (longer words stay whole).
-pub fn wrap(text: &str, width: usize) -> Vec<String> {
-    let mut lines = Vec::new();
-    let mut line = String::new();
-    for word in text.split_whitespace() {
-        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
-            lines.push(std::mem::take(&mut line));
-        }
-        if !line.is_empty() {
-            line.push(' ');
-        }
-        line.push_str(word);
-    }
-    if !line.is_empty() {
-        lines.push(line);
-    }
-    lines
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -222,18 +205,5 @@ mod tests {
         // Degenerate caps still give a valid, sorted list.
         assert_eq!(thin_indices(10, 9, 0), vec![0, 9]);
         assert_eq!(thin_indices(10, 5, 2), vec![0, 9]);
-    }
-
-    // Wrapping must not lose or reorder words and must respect the width (by construction).
-    #[test]
-    fn wrap_respects_width_and_keeps_words() {
-        let lines = wrap(CAUTION, 40);
-        assert!(lines.len() > 3);
-        assert!(lines.iter().all(|l| l.chars().count() <= 40));
-        assert_eq!(
-            lines.join(" "),
-            CAUTION.split_whitespace().collect::<Vec<_>>().join(" ")
-        );
-        assert!(wrap("", 10).is_empty());
     }
 }

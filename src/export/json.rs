@@ -63,7 +63,12 @@ pub fn report(d: &Design) -> Report<'_> {
         load_steps: &d.best.ride.steps,
         exit_speed_m_s: s.exit_speed_m_s,
         time_in_loop_s: s.time_in_loop_s,
-        shape_parameters: d.shape_labels.iter().copied().zip(d.best.shape.iter().copied()).collect(),
+        shape_parameters: d
+            .shape_labels
+            .iter()
+            .copied()
+            .zip(d.best.shape.iter().copied())
+            .collect(),
         checks: &d.verification.verdict.lines,
         verified_at_spacing_m: d.verification.spacing_m,
         evaluations: d.evaluations,
@@ -73,8 +78,10 @@ pub fn report(d: &Design) -> Report<'_> {
 
 /// Pretty-printed JSON bytes of the report.
 pub fn report_json(d: &Design) -> Result<Vec<u8>, ExportError> {
-    let mut v = serde_json::to_vec_pretty(&report(d))
-        .map_err(|e| ExportError::Encode { what: "JSON report", message: e.to_string() })?;
+    let mut v = serde_json::to_vec_pretty(&report(d)).map_err(|e| ExportError::Encode {
+        what: "JSON report",
+        message: e.to_string(),
+    })?;
     v.push(b'\n');
     Ok(v)
 }

@@ -28,19 +28,69 @@ use crate::optimiser::Design;
 #[derive(Debug, thiserror::Error)]
 pub enum ExportError {
     #[error("cannot write {path}: {source}")]
-    Io { path: PathBuf, source: std::io::Error },
+    Io {
+        path: PathBuf,
+        source: std::io::Error,
+    },
     #[error("cannot encode {what}: {message}")]
     Encode { what: &'static str, message: String },
 }
 
 /// Write `bytes` to `path` atomically: a temporary file in the same folder, then a rename.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
-    let io = |source| ExportError::Io { path: path.to_path_buf(), source };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let mut tmp = tempfile::Builder::new().prefix(".loopwright-").suffix(".tmp").tempfile_in(dir).map_err(io)?;
+    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+}
+
+fn staged(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, ExportError> {
+    let io = |source| ExportError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".loopwright-")
+        .suffix(".tmp")
+        .tempfile_in(dir)
+        .map_err(io)?;
     tmp.write_all(bytes).map_err(io)?;
+    // Temporary files are created private (0600); outputs are ordinary documents for a team.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        tmp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(0o644))
+            .map_err(io)?;
+    }
     tmp.as_file().sync_all().map_err(io)?;
-    tmp.persist(path).map_err(|e| io(e.error))?;
+    Ok(tmp)
+}
+
+/// Write several files as one step: every file is first written in full to a temporary file beside
+/// its target (a full disk or unwritable folder fails here, and the temporaries are removed), the
+/// targets are checked to be replaceable, and only then is each renamed over its target. A run that
+/// fails therefore leaves every earlier output as it was.
+pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError> {
+    let mut temps = Vec::with_capacity(files.len());
+    for (path, bytes) in files {
+        temps.push((path, staged(path, bytes)?));
+    }
+    for (path, _) in &temps {
+        if path.is_dir() {
+            return Err(ExportError::Io {
+                path: path.to_path_buf(),
+                source: std::io::Error::other("a folder of that name is in the way"),
+            });
+        }
+    }
+    for (path, tmp) in temps {
+        tmp.persist(path).map_err(|e| ExportError::Io {
+            path: path.to_path_buf(),
+            source: e.error,
+        })?;
+    }
     Ok(())
 }
 
@@ -50,16 +100,28 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
     let name = &design.brief.name;
     Ok(vec![
         (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
-        (format!("{name}.svg"), svg::elevation_svg(design).into_bytes()),
-        (format!("{name}-loads.svg"), plot::loads_svg(design).into_bytes()),
+        (
+            format!("{name}.svg"),
+            svg::elevation_svg(design).into_bytes(),
+        ),
+        (
+            format!("{name}-loads.svg"),
+            plot::loads_svg(design).into_bytes(),
+        ),
         (format!("{name}-loads.csv"), table::loads_csv(design)?),
         (format!("{name}.json"), json::report_json(design)?),
     ])
 }
 
 /// Write already-encoded files into `out_dir` (created if missing), each atomically.
-pub fn write_files(files: Vec<(String, Vec<u8>)>, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
-    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io { path: out_dir.to_path_buf(), source })?;
+pub fn write_files(
+    files: Vec<(String, Vec<u8>)>,
+    out_dir: &Path,
+) -> Result<Vec<PathBuf>, ExportError> {
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
     let mut written = Vec::new();
     for (name, bytes) in files {
         let path = out_dir.join(name);
@@ -72,12 +134,15 @@ pub fn write_files(files: Vec<(String, Vec<u8>)>, out_dir: &Path) -> Result<Vec<
 /// Encode and write every output of a design into `out_dir` (created if missing).
 pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
     let files = design_files(design)?;
-    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io { path: out_dir.to_path_buf(), source })?;
-    let mut written = Vec::new();
-    for (name, bytes) in files {
-        let path = out_dir.join(name);
-        write_atomic(&path, &bytes)?;
-        written.push(path);
-    }
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
+    let files: Vec<(PathBuf, Vec<u8>)> = files
+        .into_iter()
+        .map(|(n, b)| (out_dir.join(n), b))
+        .collect();
+    write_all_atomic(&files)?;
+    let written = files.into_iter().map(|(p, _)| p).collect();
     Ok(written)
 }

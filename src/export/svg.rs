@@ -1,8 +1,601 @@
-//! Elevation drawing of the loop (placeholder until implemented).
+//! Elevation drawing (`<name>.svg`): the loop seen from the side, X to the right, Z up.
+//!
+//! This module owns the elevation: rail centreline and heartline at one scale on both axes, a
+//! legend, a scale bar of round length, dimensions (loop height of the heartline, rail height,
+//! loop footprint), the path length, a title and the caution. [`elevation_svg_many`] draws
+//! several designs at one scale with their entry points on a shared origin; [`Frame`] is the
+//! world → pixel mapping both use. Chart pieces (text, legend, colours) come from [`super::plot`].
 
+use svg::Document;
+use svg::node::element::{Definitions, Group, Line, Marker, Path, Polyline, Rectangle};
+
+use super::dxf::thin_indices;
+use super::plot::{
+    LegendEntry, caution_block, clip, colour, fmt_num, legend, nice_number, points_attr, px, text,
+    wrap,
+};
 use crate::optimiser::Design;
 
-/// SVG text of the elevation.
-pub fn elevation_svg(_design: &Design) -> String {
-    String::new()
+/// Width of the elevation, px.
+pub const WIDTH_PX: f64 = 1000.0;
+/// Tallest the drawing of the track itself may be, px.
+const MAX_DRAWING_HEIGHT_PX: f64 = 600.0;
+/// Margins around the track drawing, px: left, right (room for two vertical dimensions).
+const LEFT_PX: f64 = 60.0;
+const RIGHT_PX: f64 = 150.0;
+/// Right margin when several designs are drawn (no dimensions there).
+const RIGHT_MANY_PX: f64 = 40.0;
+/// Most points drawn per curve; more add file size but nothing visible at this width.
+const MAX_POINTS: usize = 8000;
+
+/// World (metres, X along entry, Z up) to pixels, one scale on both axes; SVG y is flipped.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Frame {
+    /// Pixels per metre, on both axes.
+    pub scale_px_m: f64,
+    /// World X at the left edge of the drawing area, m.
+    pub x_min_m: f64,
+    /// World Z at the top edge of the drawing area, m.
+    pub z_max_m: f64,
+    /// Pixel position of the drawing area's top-left corner.
+    pub left_px: f64,
+    pub top_px: f64,
+}
+
+impl Frame {
+    /// Pixel (x, y) of world (x, z).
+    pub fn to_px(&self, x_m: f64, z_m: f64) -> (f64, f64) {
+        (
+            self.left_px + (x_m - self.x_min_m) * self.scale_px_m,
+            self.top_px + (self.z_max_m - z_m) * self.scale_px_m,
+        )
+    }
+
+    /// World (x, z) of pixel (x, y).
+    pub fn to_world(&self, x_px: f64, y_px: f64) -> (f64, f64) {
+        (
+            self.x_min_m + (x_px - self.left_px) / self.scale_px_m,
+            self.z_max_m - (y_px - self.top_px) / self.scale_px_m,
+        )
+    }
+}
+
+/// World bounds (x_min, x_max, z_min, z_max) of the rail and heartline of every design, always
+/// including the shared origin; a range under 1 m is widened so the scale stays finite.
+fn bounds(designs: &[&Design]) -> (f64, f64, f64, f64) {
+    let (mut x0, mut x1, mut z0, mut z1) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
+    for d in designs {
+        for st in &d.best.path.stations {
+            for p in [st.rail_m, st.heartline_m] {
+                if p.x.is_finite() && p.z.is_finite() {
+                    (x0, x1, z0, z1) = (x0.min(p.x), x1.max(p.x), z0.min(p.z), z1.max(p.z));
+                }
+            }
+        }
+    }
+    let pad = |a: f64, b: f64| {
+        if b - a < 1.0 {
+            (a - (1.0 - (b - a)) / 2.0, b + (1.0 - (b - a)) / 2.0)
+        } else {
+            (a, b)
+        }
+    };
+    let ((x0, x1), (z0, z1)) = (pad(x0, x1), pad(z0, z1));
+    (x0, x1, z0, z1)
+}
+
+/// SVG text of the elevation of one design.
+pub fn elevation_svg(design: &Design) -> String {
+    elevation_svg_many(&[design])
+}
+
+/// SVG text of the elevations of several designs at one scale, entry points on a shared origin.
+/// One design gets rail and heartline colours and its dimensions; several get one colour each
+/// (heartline solid, rail dashed) and their heights in the legend.
+pub fn elevation_svg_many(designs: &[&Design]) -> String {
+    let single = designs.len() == 1;
+    let mut doc = Document::new();
+    let mut y = 32.0;
+
+    // Title block.
+    let (title, subtitle) = match designs {
+        [d] => (
+            d.brief.title.clone(),
+            format!(
+                "{} loop, entry speed {} m/s ({} km/h). Elevation: X along the entry direction, Z up; metres.",
+                d.best.kind.name(),
+                fmt_num(d.brief.entry_speed_m_s, 2),
+                fmt_num(d.brief.entry_speed_m_s * 3.6, 1)
+            ),
+        ),
+        [] => ("No design to draw".to_string(), String::new()),
+        _ => (
+            format!("{} designs compared", designs.len()),
+            "One scale, entry points on a shared origin; heartline solid, rail centreline dashed. X along entry, Z up; metres."
+                .to_string(),
+        ),
+    };
+    let mut head = Group::new().set("id", "title");
+    for line in wrap(&title, 80) {
+        head = head.add(text(LEFT_PX, y, &line, 18.0, "start").set("font-weight", "bold"));
+        y += 24.0;
+    }
+    head = head.add(text(LEFT_PX, y, &subtitle, 13.0, "start"));
+    y += 30.0;
+
+    // Drawing area and the one scale.
+    let (x_min, x_max, z_min, z_max) = bounds(designs);
+    let avail_w = WIDTH_PX - LEFT_PX - if single { RIGHT_PX } else { RIGHT_MANY_PX };
+    let scale = (avail_w / (x_max - x_min)).min(MAX_DRAWING_HEIGHT_PX / (z_max - z_min));
+    let frame = Frame {
+        scale_px_m: scale,
+        x_min_m: x_min,
+        z_max_m: z_max,
+        left_px: LEFT_PX,
+        top_px: y,
+    };
+    let bottom = y + (z_max - z_min) * scale;
+    let right = LEFT_PX + (x_max - x_min) * scale;
+
+    let mut track = Group::new().set("id", "track");
+    let mut entries: Vec<(String, &str, Option<&str>)> = Vec::new();
+    for (i, d) in designs.iter().enumerate() {
+        let st = &d.best.path.stations;
+        let top = if st.is_empty() {
+            0
+        } else {
+            d.best.path.top_index()
+        };
+        let keep = thin_indices(st.len(), top, MAX_POINTS);
+        let curve = |f: &dyn Fn(usize) -> (f64, f64)| -> Vec<(f64, f64)> {
+            keep.iter()
+                .map(|&k| f(k))
+                .filter(|p| p.0.is_finite() && p.1.is_finite())
+                .collect()
+        };
+        let rail = curve(&|k| frame.to_px(st[k].rail_m.x, st[k].rail_m.z));
+        let heart = curve(&|k| frame.to_px(st[k].heartline_m.x, st[k].heartline_m.z));
+        let (rail_colour, heart_colour, rail_dash) = if single {
+            (colour::RAIL, colour::HEARTLINE, None)
+        } else {
+            let c = colour::SERIES[i % colour::SERIES.len()];
+            (c, c, Some("7 4"))
+        };
+        let mut rail_line = polyline(&rail, rail_colour, if single { 2.6 } else { 1.6 })
+            .set("id", format!("rail-{i}"));
+        if let Some(dash) = rail_dash {
+            rail_line = rail_line.set("stroke-dasharray", dash);
+        }
+        track = track
+            .add(rail_line)
+            .add(polyline(&heart, heart_colour, 2.0).set("id", format!("heartline-{i}")));
+        if single {
+            entries.push(("rail centreline".into(), rail_colour, None));
+            entries.push(("heartline".into(), heart_colour, None));
+        } else {
+            let s = &d.best.summary;
+            let label = format!(
+                "{} ({}, {} m/s): loop height {} m heartline, {} m rail",
+                clip(&d.brief.name, 24),
+                d.best.kind.name(),
+                fmt_num(d.brief.entry_speed_m_s, 1),
+                fmt_num(s.loop_height_m, 2),
+                fmt_num(s.rail_height_m, 2)
+            );
+            entries.push((label, heart_colour, None));
+        }
+    }
+
+    let mut dims = Group::new().set("id", "dimensions");
+    let mut below = bottom + 16.0;
+    if let [d] = designs {
+        let st = &d.best.path.stations;
+        let s = &d.best.summary;
+        if let Some(first) = st.first() {
+            let top = d.best.path.top();
+            let rail_top = st
+                .iter()
+                .max_by(|a, b| a.rail_m.z.total_cmp(&b.rail_m.z))
+                .unwrap_or(first);
+            // Heartline loop height: from the heartline at entry to its top.
+            let x1 = right + 28.0;
+            dims = dims.add(vertical_dim(
+                &frame,
+                x1,
+                (first.heartline_m.x, first.heartline_m.z),
+                (top.heartline_m.x, top.heartline_m.z),
+                &format!("loop height (heartline) {} m", fmt_num(s.loop_height_m, 2)),
+                colour::HEARTLINE,
+            ));
+            // Rail height: from the rail at entry to the rail's highest point.
+            dims = dims.add(vertical_dim(
+                &frame,
+                x1 + 56.0,
+                (first.rail_m.x, first.rail_m.z),
+                (rail_top.rail_m.x, rail_top.rail_m.z),
+                &format!("rail height {} m", fmt_num(s.rail_height_m, 2)),
+                colour::RAIL,
+            ));
+            // Footprint: loop entry to loop exit along X, heartline.
+            let in_loop: Vec<_> = st.iter().filter(|s| s.in_loop).collect();
+            if let (Some(a), Some(b)) = (in_loop.first(), in_loop.last()) {
+                let label = format!(
+                    "loop footprint (heartline) {} m",
+                    fmt_num(s.footprint_length_m, 2)
+                );
+                let (xa, _) = frame.to_px(a.heartline_m.x, 0.0);
+                let (xb, _) = frame.to_px(b.heartline_m.x, 0.0);
+                if (xb - xa).abs() >= 20.0 {
+                    dims = dims.add(horizontal_dim(
+                        &frame,
+                        bottom + 26.0,
+                        (a.heartline_m.x, a.heartline_m.z),
+                        (b.heartline_m.x, b.heartline_m.z),
+                        &label,
+                    ));
+                } else {
+                    // Entry and exit (nearly) coincide, as in a closed circle: say so in words.
+                    dims = dims.add(text(LEFT_PX, bottom + 40.0, &label, 13.0, "start"));
+                }
+                below = bottom + 56.0;
+            }
+            dims = dims.add(text(
+                LEFT_PX,
+                below + 10.0,
+                &format!(
+                    "path length in loop (heartline) {} m; heartline {} m above the rail; top radius {} m",
+                    fmt_num(s.path_length_m, 2),
+                    fmt_num(d.brief.heartline_height_m, 2),
+                    fmt_num(d.best.top_radius_m, 2)
+                ),
+                13.0,
+                "start",
+            ));
+            below += 26.0;
+        }
+    }
+
+    // Scale bar of a round length near a fifth of the drawing's width.
+    let bar_y = below + 18.0;
+    let (bar, bar_w) = scale_bar(LEFT_PX, bar_y, scale, (x_max - x_min) / 5.0);
+    let legend_x = (LEFT_PX + bar_w + 60.0).max(LEFT_PX + 260.0);
+    let legend_entries: Vec<LegendEntry> = entries
+        .iter()
+        .map(|(l, c, d)| (l.as_str(), *c, *d))
+        .collect();
+    let legend_end = bar_y + 20.0 * legend_entries.len() as f64;
+    let caution_y = legend_end.max(bar_y + 34.0) + 22.0;
+    let (caution, last) = caution_block(LEFT_PX, caution_y, 130);
+    let height = (last + 20.0).ceil();
+
+    doc = doc
+        .set("width", WIDTH_PX)
+        .set("height", height)
+        .set("viewBox", (0, 0, WIDTH_PX, height))
+        .add(arrow_defs())
+        .add(
+            Rectangle::new()
+                .set("width", "100%")
+                .set("height", "100%")
+                .set("fill", "white"),
+        )
+        .add(head)
+        .add(track)
+        .add(dims)
+        .add(bar)
+        .add(legend(legend_x, bar_y, &legend_entries))
+        .add(caution);
+    doc.to_string()
+}
+
+/// A round number without trailing zeros: 10 → "10", 2.5 → "2.5", 0.05 → "0.05".
+fn short_num(v: f64) -> String {
+    let s = fmt_num(v, 6);
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+fn polyline(pts: &[(f64, f64)], stroke: &str, width: f64) -> Polyline {
+    Polyline::new()
+        .set("points", points_attr(pts))
+        .set("fill", "none")
+        .set("stroke", stroke)
+        .set("stroke-width", width)
+        .set("stroke-linejoin", "round")
+}
+
+/// An arrowhead marker, reversed at the start of a line (SVG 2 `auto-start-reverse`).
+fn arrow_defs() -> Definitions {
+    Definitions::new().add(
+        Marker::new()
+            .set("id", "arrow")
+            .set("viewBox", "0 0 10 10")
+            .set("refX", 10)
+            .set("refY", 5)
+            .set("markerWidth", 7)
+            .set("markerHeight", 7)
+            .set("orient", "auto-start-reverse")
+            .add(
+                Path::new()
+                    .set("d", "M0,1 L10,5 L0,9 z")
+                    .set("fill", colour::INK),
+            ),
+    )
+}
+
+fn thin_line(x1: f64, y1: f64, x2: f64, y2: f64, stroke: &str, width: f64) -> Line {
+    Line::new()
+        .set("x1", px(x1))
+        .set("y1", px(y1))
+        .set("x2", px(x2))
+        .set("y2", px(y2))
+        .set("stroke", stroke)
+        .set("stroke-width", width)
+}
+
+/// A vertical dimension at pixel x `x_px` between world points `a` and `b`, with extension lines
+/// from the points and the label written along the dimension line.
+fn vertical_dim(
+    frame: &Frame,
+    x_px: f64,
+    a: (f64, f64),
+    b: (f64, f64),
+    label: &str,
+    ext: &str,
+) -> Group {
+    let (ax, ay) = frame.to_px(a.0, a.1);
+    let (bx, by) = frame.to_px(b.0, b.1);
+    // Too short to hold arrows and a label (e.g. a degenerate path): leave it out.
+    let len = (ay - by).abs();
+    if len.is_nan() || len < 20.0 {
+        return Group::new();
+    }
+    let mid = (ay + by) / 2.0;
+    let lx = x_px + 14.0;
+    Group::new()
+        .add(thin_line(ax + 3.0, ay, x_px + 6.0, ay, ext, 0.8).set("stroke-dasharray", "3 3"))
+        .add(thin_line(bx + 3.0, by, x_px + 6.0, by, ext, 0.8).set("stroke-dasharray", "3 3"))
+        .add(
+            thin_line(x_px, ay, x_px, by, colour::INK, 1.1)
+                .set("marker-start", "url(#arrow)")
+                .set("marker-end", "url(#arrow)"),
+        )
+        .add(
+            text(lx, mid, label, 12.5, "middle")
+                .set("transform", format!("rotate(-90 {} {})", px(lx), px(mid))),
+        )
+}
+
+/// A horizontal dimension at pixel y `y_px` between world points `a` and `b`, label below.
+fn horizontal_dim(frame: &Frame, y_px: f64, a: (f64, f64), b: (f64, f64), label: &str) -> Group {
+    let (ax, ay) = frame.to_px(a.0, a.1);
+    let (bx, by) = frame.to_px(b.0, b.1);
+    Group::new()
+        .add(
+            thin_line(ax, ay + 3.0, ax, y_px + 6.0, colour::HEARTLINE, 0.8)
+                .set("stroke-dasharray", "3 3"),
+        )
+        .add(
+            thin_line(bx, by + 3.0, bx, y_px + 6.0, colour::HEARTLINE, 0.8)
+                .set("stroke-dasharray", "3 3"),
+        )
+        .add(
+            thin_line(ax, y_px, bx, y_px, colour::INK, 1.1)
+                .set("marker-start", "url(#arrow)")
+                .set("marker-end", "url(#arrow)"),
+        )
+        .add(text((ax + bx) / 2.0, y_px + 17.0, label, 12.5, "middle"))
+}
+
+/// A scale bar at (x, y) px of a round length near `target_m`, in two halves; returns the group
+/// and its width in px.
+fn scale_bar(x: f64, y: f64, scale_px_m: f64, target_m: f64) -> (Group, f64) {
+    let len_m = nice_number(target_m, true);
+    let w = len_m * scale_px_m;
+    let half = w / 2.0;
+    let label = format!("{} m", short_num(len_m));
+    let g = Group::new()
+        .set("id", "scale-bar")
+        .add(
+            Rectangle::new()
+                .set("id", "scale-bar-frame")
+                .set("x", px(x))
+                .set("y", px(y - 4.0))
+                .set("width", px(w))
+                .set("height", 8)
+                .set("fill", "white")
+                .set("stroke", colour::INK)
+                .set("stroke-width", 1),
+        )
+        .add(
+            Rectangle::new()
+                .set("x", px(x))
+                .set("y", px(y - 4.0))
+                .set("width", px(half))
+                .set("height", 8)
+                .set("fill", colour::INK),
+        )
+        .add(text(x, y + 20.0, "0", 12.0, "middle"))
+        .add(text(
+            x + half,
+            y + 20.0,
+            &short_num(len_m / 2.0),
+            12.0,
+            "middle",
+        ))
+        .add(text(x + w, y + 20.0, &label, 12.0, "middle").set("id", "scale-bar-label"))
+        .add(text(x + w + 26.0, y + 4.0, "scale", 12.0, "start").set("fill", colour::MUTED));
+    (g, w)
+}
+
+#[cfg(test)]
+pub(crate) mod tests {
+    use super::*;
+    use crate::brief::{Brief, ShapeKind};
+    use crate::optimiser::evaluate;
+    use crate::report::CAUTION;
+    use svg::parser::Event;
+
+    /// A lossless circle of top radius 10 m: geometry gives a heartline loop height of 2R = 20 m
+    /// and a rail height of 2R + 2h (rail h below the heartline at the bottom, h above at the top).
+    pub(crate) fn circle_design(radius_m: f64) -> Design {
+        let mut brief = Brief::demo();
+        brief.shape = ShapeKind::Circle;
+        brief.rolling_resistance = 0.0;
+        brief.drag_area_m2 = 0.0;
+        let best =
+            evaluate(&brief, ShapeKind::Circle, &[], radius_m, 0.05).expect("circle evaluates");
+        Design {
+            brief,
+            shape_labels: vec![],
+            verification: best.clone(),
+            best,
+            evaluations: 1,
+        }
+    }
+
+    /// Every tag with its attributes, plus the text that follows each tag.
+    pub(crate) fn parse(
+        svg: &str,
+    ) -> Vec<(String, std::collections::HashMap<String, String>, String)> {
+        let mut out: Vec<(String, std::collections::HashMap<String, String>, String)> = Vec::new();
+        for ev in svg::read(svg).unwrap() {
+            match ev {
+                Event::Tag(name, _, attrs) => out.push((
+                    name.into(),
+                    attrs
+                        .iter()
+                        .map(|(k, v)| (k.clone(), v.to_string()))
+                        .collect(),
+                    String::new(),
+                )),
+                Event::Text(t) => {
+                    if let Some(last) = out.last_mut() {
+                        last.2.push_str(t);
+                    }
+                }
+                Event::Error(e) => panic!("SVG does not parse: {e}"),
+                _ => {}
+            }
+        }
+        out
+    }
+
+    pub(crate) fn by_id<'a>(
+        tags: &'a [(String, std::collections::HashMap<String, String>, String)],
+        id: &str,
+    ) -> &'a (String, std::collections::HashMap<String, String>, String) {
+        tags.iter()
+            .find(|t| t.1.get("id").map(String::as_str) == Some(id))
+            .unwrap_or_else(|| panic!("no #{id}"))
+    }
+
+    pub(crate) fn points(attr: &str) -> Vec<(f64, f64)> {
+        attr.split_whitespace()
+            .map(|p| {
+                let (x, y) = p.split_once(',').unwrap();
+                (x.parse().unwrap(), y.parse().unwrap())
+            })
+            .collect()
+    }
+
+    // Measured as a reader would, with the drawing's own scale bar, the heartline's height is the
+    // closed-form 2R and the rail's 2R + 2h (circle geometry); the same scale horizontally gives
+    // the circle's width 2R + 2h of the rail (its leftmost and rightmost points at mid-height).
+    #[test]
+    fn elevation_measures_true_to_the_scale_bar() {
+        let d = circle_design(10.0);
+        let svg = elevation_svg(&d);
+        assert_eq!(svg.matches("<svg").count(), 1);
+        let tags = parse(&svg);
+        let bar_w: f64 = by_id(&tags, "scale-bar-frame").1["width"].parse().unwrap();
+        let label = by_id(&tags, "scale-bar-label").2.trim().to_string();
+        let bar_m: f64 = label
+            .strip_suffix(" m")
+            .expect("label in metres")
+            .parse()
+            .unwrap();
+        let px_per_m = bar_w / bar_m;
+
+        let heart = points(&by_id(&tags, "heartline-0").1["points"]);
+        let rail = points(&by_id(&tags, "rail-0").1["points"]);
+        let span = |p: &[(f64, f64)], f: fn(&(f64, f64)) -> f64| {
+            let v: Vec<f64> = p.iter().map(f).collect();
+            v.iter().copied().fold(f64::MIN, f64::max) - v.iter().copied().fold(f64::MAX, f64::min)
+        };
+        // Entry is the lowest heartline point (level lead track), so the y span is the height.
+        let tol = 0.02 / px_per_m + 1e-3; // 0.01 px rounding at each end, plus sampling of the arc
+        let h = 1.1;
+        assert!((span(&heart, |p| p.1) / px_per_m - 20.0).abs() < tol);
+        assert!((span(&rail, |p| p.1) / px_per_m - (20.0 + 2.0 * h)).abs() < tol);
+        // Horizontal, same scale: lead track L, the circle (centre above x = L, so x from L − R to
+        // L + R), back to x = L, then L of exit track to 2L.
+        let (lead, r) = (d.brief.lead_length_m, 10.0);
+        let width = (lead + r).max(2.0 * lead) - (lead - r).min(0.0);
+        assert!((span(&heart, |p| p.0) / px_per_m - width).abs() < tol);
+
+        assert!(
+            svg.contains(
+                CAUTION
+                    .split_whitespace()
+                    .take(4)
+                    .collect::<Vec<_>>()
+                    .join(" ")
+                    .as_str()
+            )
+        );
+        assert!(svg.contains(&format!(
+            "loop height (heartline) {:.2} m",
+            d.best.summary.loop_height_m
+        )));
+        assert!(svg.contains(&d.brief.title));
+    }
+
+    // Several designs share one scale and the entry origin: the pixel of world (0, 0) is the
+    // first heartline point of each.
+    #[test]
+    fn many_designs_share_origin_and_scale() {
+        let (a, b) = (circle_design(8.0), circle_design(12.0));
+        let tags = parse(&elevation_svg_many(&[&a, &b]));
+        let first = |id: &str| points(&by_id(&tags, id).1["points"])[0];
+        let (p0, p1) = (first("heartline-0"), first("heartline-1"));
+        assert!(
+            (p0.0 - p1.0).abs() < 0.011 && (p0.1 - p1.1).abs() < 0.011,
+            "{p0:?} {p1:?}"
+        );
+        let h = |id: &str| span_y(&points(&by_id(&tags, id).1["points"]));
+        // Heights in the ratio of the radii (both are 2R).
+        assert!((h("heartline-1") / h("heartline-0") - 1.5).abs() < 1e-3);
+    }
+
+    fn span_y(p: &[(f64, f64)]) -> f64 {
+        let ys = p.iter().map(|p| p.1);
+        ys.clone().fold(f64::MIN, f64::max) - ys.fold(f64::MAX, f64::min)
+    }
+
+    // No panic and still a parseable SVG with the caution for degenerate input.
+    #[test]
+    fn degenerate_designs_still_draw() {
+        let mut d = circle_design(10.0);
+        d.best.path.stations.truncate(1);
+        d.best.ride.points.truncate(1);
+        d.brief.title = "bad\u{1}title <&>".into();
+        for svg in [
+            elevation_svg(&d),
+            elevation_svg_many(&[]),
+            super::super::plot::loads_svg(&d),
+        ] {
+            let tags = parse(&svg);
+            assert!(tags.iter().any(|t| t.0 == "svg"));
+            assert!(svg.contains("CAUTION"));
+        }
+        d.best.path.stations.clear();
+        d.best.ride.points.clear();
+        let _ = parse(&elevation_svg(&d));
+        let _ = parse(&super::super::plot::loads_svg(&d));
+        assert!(super::super::dxf::dxf_bytes(&d).is_err());
+    }
 }

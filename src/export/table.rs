@@ -7,8 +7,20 @@ use crate::optimiser::Design;
 
 /// Column names; units are in each name.
 pub const COLUMNS: [&str; 14] = [
-    "s_m", "x_m", "y_m", "z_m", "pitch_deg", "curvature_1_m", "speed_m_s", "time_s", "normal_g", "tangential_g",
-    "lateral_g", "onset_g_s", "rail_x_m", "rail_z_m",
+    "s_m",
+    "x_m",
+    "y_m",
+    "z_m",
+    "pitch_deg",
+    "curvature_1_m",
+    "speed_m_s",
+    "time_s",
+    "normal_g",
+    "tangential_g",
+    "lateral_g",
+    "onset_g_s",
+    "rail_x_m",
+    "rail_z_m",
 ];
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
@@ -18,7 +30,10 @@ pub fn loads_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
 
 /// The CSV bytes of any sampled path and its ride (also used by `check`).
 pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportError> {
-    let enc = |e: csv::Error| ExportError::Encode { what: "loads table", message: e.to_string() };
+    let enc = |e: csv::Error| ExportError::Encode {
+        what: "loads table",
+        message: e.to_string(),
+    };
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(COLUMNS).map_err(enc)?;
     for (st, p) in path.stations.iter().zip(&ride.points) {
@@ -39,7 +54,11 @@ pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportErr
             st.rail_m.x,
             st.rail_m.z,
         ];
-        w.write_record(rec.iter().map(|v| format!("{v:.9}"))).map_err(enc)?;
+        w.write_record(rec.iter().map(|v| format!("{v:.9}")))
+            .map_err(enc)?;
     }
-    w.into_inner().map_err(|e| ExportError::Encode { what: "loads table", message: e.to_string() })
+    w.into_inner().map_err(|e| ExportError::Encode {
+        what: "loads table",
+        message: e.to_string(),
+    })
 }

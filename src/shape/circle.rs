@@ -24,7 +24,11 @@ impl ShapeFamily for Circle {
     fn default_shape(&self) -> Vec<f64> {
         Vec::new()
     }
-    fn loop_segments(&self, _shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError> {
+    fn loop_segments(
+        &self,
+        _shape: &[f64],
+        top_radius_m: f64,
+    ) -> Result<Vec<CurvatureSegment>, ShapeError> {
         // Two half-circles so that a segment boundary (and hence a sample) falls exactly on the top.
         let half = CurvatureSegment::arc(PI * top_radius_m, 1.0 / top_radius_m);
         Ok(vec![half, half])

@@ -27,7 +27,11 @@ impl ShapeFamily for Clothoid {
     fn default_shape(&self) -> Vec<f64> {
         vec![0.6]
     }
-    fn loop_segments(&self, shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError> {
+    fn loop_segments(
+        &self,
+        shape: &[f64],
+        top_radius_m: f64,
+    ) -> Result<Vec<CurvatureSegment>, ShapeError> {
         let phi = shape[0];
         let r = top_radius_m;
         let spiral_m = 2.0 * phi * PI * r;

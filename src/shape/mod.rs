@@ -62,18 +62,34 @@ pub struct CurvatureSegment {
 
 impl CurvatureSegment {
     pub fn straight(length_m: f64) -> Self {
-        Self { kind: SegmentKind::Straight, length_m, coeffs: [0.0; 4] }
+        Self {
+            kind: SegmentKind::Straight,
+            length_m,
+            coeffs: [0.0; 4],
+        }
     }
     pub fn arc(length_m: f64, curvature_1_m: f64) -> Self {
-        Self { kind: SegmentKind::Arc, length_m, coeffs: [curvature_1_m, 0.0, 0.0, 0.0] }
+        Self {
+            kind: SegmentKind::Arc,
+            length_m,
+            coeffs: [curvature_1_m, 0.0, 0.0, 0.0],
+        }
     }
     /// Curvature going linearly from `start` to `end` over `length_m`.
     pub fn clothoid(length_m: f64, start_1_m: f64, end_1_m: f64) -> Self {
         let slope = (end_1_m - start_1_m) / length_m;
-        Self { kind: SegmentKind::Clothoid, length_m, coeffs: [start_1_m, slope, 0.0, 0.0] }
+        Self {
+            kind: SegmentKind::Clothoid,
+            length_m,
+            coeffs: [start_1_m, slope, 0.0, 0.0],
+        }
     }
     pub fn cubic(length_m: f64, coeffs: [f64; 4]) -> Self {
-        Self { kind: SegmentKind::Cubic, length_m, coeffs }
+        Self {
+            kind: SegmentKind::Cubic,
+            length_m,
+            coeffs,
+        }
     }
     /// κ at local arc length `t`.
     pub fn curvature_1_m(&self, t: f64) -> f64 {
@@ -116,7 +132,12 @@ impl CurvatureProfile {
             s += seg.length_m;
             theta += seg.turn_rad(seg.length_m);
         }
-        Self { segments, starts_m, pitch_starts_rad, loop_range }
+        Self {
+            segments,
+            starts_m,
+            pitch_starts_rad,
+            loop_range,
+        }
     }
 
     /// Add level lead track of `lead_m` before and after the loop.
@@ -154,7 +175,10 @@ impl CurvatureProfile {
     /// Arc-length interval of the loop proper.
     pub fn loop_span_m(&self) -> (f64, f64) {
         let (a, b) = self.loop_range;
-        (self.starts_m[a], self.starts_m[b] + self.segments[b].length_m)
+        (
+            self.starts_m[a],
+            self.starts_m[b] + self.segments[b].length_m,
+        )
     }
 
     fn locate(&self, s_m: f64) -> (usize, f64) {
@@ -164,7 +188,10 @@ impl CurvatureProfile {
             Err(i) => i - 1,
         };
         let i = i.min(self.segments.len() - 1);
-        (i, (s_m - self.starts_m[i]).clamp(0.0, self.segments[i].length_m))
+        (
+            i,
+            (s_m - self.starts_m[i]).clamp(0.0, self.segments[i].length_m),
+        )
     }
     /// κ at arc length `s_m` (right-hand value at a segment boundary).
     pub fn curvature_1_m(&self, s_m: f64) -> f64 {
@@ -182,7 +209,10 @@ impl CurvatureProfile {
             .iter()
             .map(|seg| {
                 // A cubic's extremes lie at the ends or where its slope vanishes.
-                let mut m = seg.curvature_1_m(0.0).abs().max(seg.curvature_1_m(seg.length_m).abs());
+                let mut m = seg
+                    .curvature_1_m(0.0)
+                    .abs()
+                    .max(seg.curvature_1_m(seg.length_m).abs());
                 let [_, c1, c2, c3] = seg.coeffs;
                 let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
                 let mut roots = Vec::new();
@@ -231,7 +261,11 @@ pub trait ShapeFamily: Send + Sync {
         false
     }
     /// The loop proper (without lead track) for these parameters at this top radius.
-    fn loop_segments(&self, shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError>;
+    fn loop_segments(
+        &self,
+        shape: &[f64],
+        top_radius_m: f64,
+    ) -> Result<Vec<CurvatureSegment>, ShapeError>;
     /// The whole profile with `lead_m` of level track before and after.
     fn curvature(&self, shape: &[f64], top_radius_m: f64) -> Result<CurvatureProfile, ShapeError> {
         self.curvature_with_leads(shape, top_radius_m, 0.0)
@@ -247,18 +281,35 @@ pub trait ShapeFamily: Send + Sync {
         if shape.len() != self.shape_bounds().len() {
             return Err(ShapeError {
                 family: name,
-                message: format!("expects {} shape parameters, got {}", self.shape_bounds().len(), shape.len()),
+                message: format!(
+                    "expects {} shape parameters, got {}",
+                    self.shape_bounds().len(),
+                    shape.len()
+                ),
             });
         }
-        for ((v, (lo, hi)), label) in shape.iter().zip(self.shape_bounds()).zip(self.shape_labels()) {
+        for ((v, (lo, hi)), label) in shape
+            .iter()
+            .zip(self.shape_bounds())
+            .zip(self.shape_labels())
+        {
             if !v.is_finite() || v < lo || v > hi {
-                return Err(ShapeError { family: name, message: format!("{label} = {v} is outside {lo}..{hi}") });
+                return Err(ShapeError {
+                    family: name,
+                    message: format!("{label} = {v} is outside {lo}..{hi}"),
+                });
             }
         }
         if !(top_radius_m.is_finite() && top_radius_m > 0.0) {
-            return Err(ShapeError { family: name, message: format!("top radius {top_radius_m} m must be positive") });
+            return Err(ShapeError {
+                family: name,
+                message: format!("top radius {top_radius_m} m must be positive"),
+            });
         }
-        Ok(CurvatureProfile::with_leads(self.loop_segments(shape, top_radius_m)?, lead_m))
+        Ok(CurvatureProfile::with_leads(
+            self.loop_segments(shape, top_radius_m)?,
+            lead_m,
+        ))
     }
 }
 
@@ -289,10 +340,16 @@ mod tests {
             assert!((p.pitch_rad(l) - 2.0 * PI).abs() < 1e-12, "{kind}");
             for i in 0..=50 {
                 let s = l * i as f64 / 50.0 * 0.999 + 1e-6;
-                assert!((p.curvature_1_m(s) - p.curvature_1_m(l - s)).abs() < 1e-9, "{kind} at {s}");
+                assert!(
+                    (p.curvature_1_m(s) - p.curvature_1_m(l - s)).abs() < 1e-9,
+                    "{kind} at {s}"
+                );
             }
             // The top (mid-length) has the requested radius.
-            assert!((p.curvature_1_m(l / 2.0) - 1.0 / 7.5).abs() < 1e-12, "{kind}");
+            assert!(
+                (p.curvature_1_m(l / 2.0) - 1.0 / 7.5).abs() < 1e-12,
+                "{kind}"
+            );
         }
     }
 }

@@ -14,7 +14,6 @@ use std::f64::consts::PI;
 #[derive(Debug, Clone, Copy, Default)]
 pub struct Spline;
 
-
 /// Cubic spline through `y` at `KNOTS`: natural at the first knot, zero slope at the last.
 /// Returns the per-interval coefficients in the local variable (u − uᵢ).
 fn half_spline(y: [f64; 5]) -> [[f64; 4]; 4] {
@@ -49,13 +48,16 @@ fn half_spline(y: [f64; 5]) -> [[f64; 4]; 4] {
 /// Gaussian elimination with partial pivoting on a 4×4 system (well conditioned here).
 fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> [f64; 4] {
     for col in 0..4 {
-        let piv = (col..4).max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs())).unwrap_or(col);
+        let piv = (col..4)
+            .max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))
+            .unwrap_or(col);
         a.swap(col, piv);
         b.swap(col, piv);
         for row in col + 1..4 {
             let f = a[row][col] / a[col][col];
-            for k in col..4 {
-                a[row][k] -= f * a[col][k];
+            let pivot_row = a[col];
+            for (x, p) in a[row].iter_mut().zip(pivot_row).skip(col) {
+                *x -= f * p;
             }
             b[row] -= f * b[col];
         }
@@ -81,12 +83,19 @@ impl ShapeFamily for Spline {
     fn default_shape(&self) -> Vec<f64> {
         vec![0.35, 0.7, 0.95]
     }
-    fn loop_segments(&self, shape: &[f64], top_radius_m: f64) -> Result<Vec<CurvatureSegment>, ShapeError> {
+    fn loop_segments(
+        &self,
+        shape: &[f64],
+        top_radius_m: f64,
+    ) -> Result<Vec<CurvatureSegment>, ShapeError> {
         let y = [0.0, shape[0], shape[1], shape[2], 1.0];
         let pieces = half_spline(y);
         // ∫ over the half loop in u, exact for cubics; the whole loop doubles it.
         let h = 0.125;
-        let half_area: f64 = pieces.iter().map(|c| h * (c[0] + h * (c[1] / 2.0 + h * (c[2] / 3.0 + h * c[3] / 4.0)))).sum();
+        let half_area: f64 = pieces
+            .iter()
+            .map(|c| h * (c[0] + h * (c[1] / 2.0 + h * (c[2] / 3.0 + h * c[3] / 4.0))))
+            .sum();
         // Curvature must stay non-negative so the loop turns one way; sample densely to check.
         for c in &pieces {
             for k in 0..=40 {
@@ -104,9 +113,19 @@ impl ShapeFamily for Spline {
         let length_m = 2.0 * PI * top_radius_m / area;
         let r = top_radius_m;
         // Convert each piece from u to arc length: u = s/L, so the k-th coefficient scales by 1/Lᵏ.
-        let scale = |c: [f64; 4]| [c[0] / r, c[1] / (r * length_m), c[2] / (r * length_m.powi(2)), c[3] / (r * length_m.powi(3))];
+        let scale = |c: [f64; 4]| {
+            [
+                c[0] / r,
+                c[1] / (r * length_m),
+                c[2] / (r * length_m.powi(2)),
+                c[3] / (r * length_m.powi(3)),
+            ]
+        };
         let seg_m = h * length_m;
-        let mut segs: Vec<CurvatureSegment> = pieces.iter().map(|&c| CurvatureSegment::cubic(seg_m, scale(c))).collect();
+        let mut segs: Vec<CurvatureSegment> = pieces
+            .iter()
+            .map(|&c| CurvatureSegment::cubic(seg_m, scale(c)))
+            .collect();
         // Mirror: piece i of the second half is piece (3 − i) run backwards. For p(t) on [0, h]
         // run backwards, q(t) = p(h − t); expand the polynomial in t.
         for c in pieces.iter().rev() {
