@@ -257,7 +257,7 @@ pub struct Brief {
     pub air_density_kg_m3: f64,
     pub lead_length_m: f64,
     pub spacing_m: f64,
-    /// The target load profile; present exactly when `shape` is `profile`.
+    /// The target load profile (always present when `shape` is `profile`).
     pub profile: Option<ProfileSpec>,
 }
 
@@ -443,15 +443,15 @@ impl BriefInput {
             ));
         }
         let profile = match (shape, &self.profile) {
-            (ShapeKind::Profile, Some(p)) => Some(p.resolve()?),
+            // Checked even when another family is chosen (a user may switch with --shape), so a
+            // brief can be designed with both.
+            (_, Some(p)) => Some(p.resolve()?),
             (ShapeKind::Profile, None) => {
                 return Err(err(
                     "profile",
                     "shape = \"profile\" needs a [profile] table with angles_deg and normal_g (see examples/profile-brief.toml)",
                 ));
             }
-            // A table for another family is kept out of the brief but not an error: a user may
-            // switch families with --shape and keep the file as it is.
             _ => None,
         };
         Ok(Brief {

@@ -308,7 +308,8 @@ pub fn from_drawing(
     };
     let chosen: Vec<_> = match layer {
         Some(name) => {
-            if !layers.iter().any(|l| l == name) {
+            // DXF layer names are case-insensitive.
+            if !layers.iter().any(|l| l.eq_ignore_ascii_case(name)) {
                 return Err(format_err(
                     what,
                     format!(
@@ -321,7 +322,10 @@ pub fn from_drawing(
                     ),
                 ));
             }
-            curves.iter().filter(|e| e.common.layer == name).collect()
+            curves
+                .iter()
+                .filter(|e| e.common.layer.eq_ignore_ascii_case(name))
+                .collect()
         }
         None => curves.iter().collect(),
     };

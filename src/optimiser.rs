@@ -119,6 +119,11 @@ pub fn evaluate(
     top_radius_m: f64,
     spacing_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
+    if kind == ShapeKind::Profile && brief.profile.is_none() {
+        return Err(EvalFailure::Shape(
+            "the profile family needs a [profile] table in the brief".into(),
+        ));
+    }
     let fam = family_for(brief, kind);
     let profile = fam
         .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)

@@ -240,7 +240,7 @@ fn impossible_profile_exits_infeasible_with_reason() {
 
 /// Tuning: the optimiser adjusts the control loads for the tallest loop within the limits; the
 /// result must meet every limit at 4x sampling and be taller than the loop of the loads as written
-/// (which also meets them: the written loads are a feasible start).
+/// (which also meets them: the written loads are a feasible start). A target height is met.
 #[test]
 fn tuned_profile_is_taller_and_meets_the_limits() {
     let extra = "max_onset_g_s = 8.0\n[profile]\nangles_deg = [0.0, 60.0, 120.0, 180.0]\nnormal_g = [3.2, 3.0, 1.5, 0.8]\ntransition_deg = 25.0\n";
@@ -258,4 +258,21 @@ fn tuned_profile_is_taller_and_meets_the_limits() {
     );
     assert!(s.peak_normal_g <= 4.0 && s.top_normal_g >= 0.3 && s.peak_onset_g_s <= 8.0);
     assert!(s.loop_height_m > as_written.best.summary.loop_height_m + 0.1);
+    // A target height 1 m under the tallest: the common load offset makes it exact (to the 1 mm
+    // the bisection accepts).
+    let target = s.loop_height_m - 1.0;
+    b.objective = loopwright::brief::Objective::Height { height_m: target };
+    let h =
+        design_family(&b, ShapeKind::Profile).expect("a loop under the tallest is within reach");
+    let s = h.verification.summary;
+    eprintln!(
+        "target height {target:.3} m: {:.4} m, peak {:.3} g",
+        s.loop_height_m, s.peak_normal_g
+    );
+    assert!(
+        (s.loop_height_m - target).abs() < 1e-3,
+        "{}",
+        s.loop_height_m
+    );
+    assert!(s.peak_normal_g <= 4.0 && s.top_normal_g >= 0.3 && s.peak_onset_g_s <= 8.0);
 }

@@ -20,7 +20,10 @@ use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::onset_for_limit;
 
 /// Weight of a limit violation (per g, g/s or m) against the objective.
-const PENALTY: f64 = 100.0;
+const PENALTY: f64 = 1000.0;
+/// The search keeps this far inside every limit (g, g/s or m): the penalty is soft, and the coarse
+/// search sampling differs slightly from the fine verification.
+const MARGIN: f64 = 5e-3;
 
 /// Problem: the objective over the control loads of a force-first loop.
 pub struct ProfileCost<'a> {
@@ -54,14 +57,15 @@ impl ProfileCost<'_> {
     /// Sum of limit violations (0 when every limit holds).
     fn violation(&self, e: &Evaluation) -> f64 {
         let (b, s) = (self.brief, &e.summary);
-        let mut v = (s.peak_normal_g - b.max_g).max(0.0)
-            + (b.min_top_g - s.top_normal_g).max(0.0)
-            + (b.min_radius_m - s.min_radius_m).max(0.0);
+        let m = MARGIN;
+        let mut v = (s.peak_normal_g - b.max_g + m).max(0.0)
+            + (b.min_top_g + m - s.top_normal_g).max(0.0)
+            + (b.min_radius_m + m - s.min_radius_m).max(0.0);
         if let Some(o) = b.max_onset_g_s {
-            v += (onset_for_limit(s) - o).clamp(0.0, 1e3);
+            v += (onset_for_limit(s) - o + m).clamp(0.0, 1e3);
         }
         if let Some(h) = b.max_height_m {
-            v += (s.loop_height_m - h).max(0.0);
+            v += (s.loop_height_m - h + m).max(0.0);
         }
         v
     }
