@@ -333,6 +333,24 @@ mod refusals {
             e.contains("bytes; check reads centrelines of at most"),
             "{e}"
         );
+        // Points that read fine but span 900 km of path would need millions of stations.
+        let far = dir.path().join("far.csv");
+        write_points(
+            &far,
+            (0..8).map(|i| (i as f64 * 1.2e5, 0.0, ((i * i) % 5) as f64 * 1e4)),
+        );
+        let imported = read_centreline(&far, None).unwrap();
+        let opts = CheckOptions {
+            points_are: PointsAre::Rail,
+            tolerance_m: DEFAULT_TOLERANCE_M,
+        };
+        let e = check_centreline(&Brief::demo(), &imported, "far", &opts)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("stations") && e.contains("units are metres"),
+            "{e}"
+        );
         let missing = read_centreline(&dir.path().join("nope.csv"), None).unwrap_err();
         assert!(matches!(
             missing,

@@ -26,6 +26,8 @@ use super::{Centreline, Station};
 pub const MAX_TILT_DEG: f64 = 2.0;
 /// Stations where |κ| exceeds this fraction of the largest |κ| make up the loop proper.
 pub const LOOP_CURVATURE_FRACTION: f64 = 0.01;
+/// Most stations a fitted centreline is sampled at (memory bound for hostile input).
+pub const MAX_STATIONS: usize = 2_000_000;
 /// Default fitting tolerance (RMS distance from the points), m. Chosen so that exact points of a
 /// designed loop come back within 0.05 g (the round-trip tests); raise it to the accuracy of
 /// edited or surveyed points (e.g. 1 mm for coordinates rounded to the millimetre).
@@ -275,6 +277,14 @@ pub fn fit_centreline(
     let mut t = vec![0.0; n];
     for i in 1..n {
         t[i] = t[i - 1] + (a[i] - a[i - 1]).hypot(z[i] - z[i - 1]);
+    }
+    let stations = t[n - 1] / opts.spacing_m + n as f64;
+    if !(stations <= MAX_STATIONS as f64) {
+        return Err(FitError(format!(
+            "the points span {:.0} m of path; at a spacing of {} m that is more than {MAX_STATIONS} stations (raise --spacing, or check the units are metres)",
+            t[n - 1],
+            opts.spacing_m
+        )));
     }
     let h: Vec<f64> = t.windows(2).map(|w| w[1] - w[0]).collect();
     if h.iter().any(|&d| d <= 0.0) {

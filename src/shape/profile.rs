@@ -492,4 +492,21 @@ mod tests {
         let h = t[4] - t[3];
         assert!((2.0 * c[3][2] + 6.0 * c[3][3] * h).abs() < 1e-9);
     }
+
+    // Loop closure (elementary geometry): the loop proper turns exactly 2π, and the transitions
+    // take the curvature from zero and back to zero without a step anywhere.
+    #[test]
+    fn default_profile_closes_with_zero_end_curvature() {
+        let f = super::super::family(ShapeKind::Profile);
+        assert!(f.size_from_ride());
+        let p = f.curvature(&f.default_shape(), 1.0).unwrap();
+        let l = p.length_m();
+        assert!((p.pitch_rad(l) - 2.0 * PI).abs() < 1e-12);
+        assert!(p.curvature_1_m(0.0).abs() < 1e-15 && p.curvature_1_m(l).abs() < 1e-12);
+        let segs = p.segments();
+        for w in segs.windows(2) {
+            let (a, b) = (w[0].curvature_1_m(w[0].length_m), w[1].curvature_1_m(0.0));
+            assert!((a - b).abs() <= 1e-12 * (1.0 + a.abs()), "step {a} → {b}");
+        }
+    }
 }
