@@ -227,6 +227,15 @@ pub fn fit_centreline(
     if n < 4 {
         return Err(FitError(format!("{n} points; at least 4 are needed")));
     }
+    if let Some(i) = points.iter().position(|p| !p.iter().all(|c| c.is_finite())) {
+        return Err(FitError(format!("point {} is not finite", i + 1)));
+    }
+    if !(opts.spacing_m.is_finite() && opts.spacing_m > 0.0) {
+        return Err(FitError(format!(
+            "spacing {} m must be a positive number of metres",
+            opts.spacing_m
+        )));
+    }
     if !(opts.tolerance_m.is_finite() && opts.tolerance_m > 0.0) {
         return Err(FitError(format!(
             "tolerance {} m must be a positive number of metres",
@@ -279,7 +288,7 @@ pub fn fit_centreline(
         t[i] = t[i - 1] + (a[i] - a[i - 1]).hypot(z[i] - z[i - 1]);
     }
     let stations = t[n - 1] / opts.spacing_m + n as f64;
-    if !(stations <= MAX_STATIONS as f64) {
+    if stations.is_nan() || stations > MAX_STATIONS as f64 {
         return Err(FitError(format!(
             "the points span {:.0} m of path; at a spacing of {} m that is more than {MAX_STATIONS} stations (raise --spacing, or check the units are metres)",
             t[n - 1],
