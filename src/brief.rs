@@ -526,3 +526,45 @@ impl Brief {
         self.air_density_kg_m3 * self.drag_area_m2 / self.mass_kg
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn flags_override_the_file_field_by_field() {
+        let file = BriefInput::from_toml("max_g = 4.0\nmin_top_g = 0.3\nname = \"a\"").unwrap();
+        let flags = BriefInput {
+            max_g: Some(5.0),
+            ..Default::default()
+        };
+        let b = file.overlay(flags).resolve().unwrap();
+        assert_eq!((b.max_g, b.min_top_g, b.name.as_str()), (5.0, 0.3, "a"));
+    }
+
+    #[test]
+    fn unknown_fields_are_rejected_with_their_name() {
+        let e = BriefInput::from_toml("max_gee = 4.0").unwrap_err();
+        assert!(e.to_string().contains("max_gee"), "{e}");
+    }
+
+    #[test]
+    fn the_demo_brief_is_valid() {
+        let b = Brief::demo();
+        assert_eq!(b.name, "copperwing");
+        assert_eq!(b.entry_speed_m_s, 25.0);
+    }
+
+    // 1 mph = 0.44704 m/s exactly (international mile, 1959); 90 km/h = 25 m/s.
+    #[test]
+    fn speeds_in_toml_accept_units() {
+        for (text, v) in [
+            ("entry_speed = 25", 25.0),
+            ("entry_speed = \"90km/h\"", 25.0),
+            ("entry_speed = \"50 mph\"", 22.352),
+        ] {
+            let b = BriefInput::from_toml(text).unwrap().resolve().unwrap();
+            assert!((b.entry_speed_m_s - v).abs() < 1e-12, "{text}");
+        }
+    }
+}
