@@ -74,6 +74,16 @@ pub fn terminal_summary(d: &Design) -> String {
         format!("{:.2} s", s.time_in_loop_s),
     );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
+    // Force-first loops with losses leave above or below their entry (the way down is slower, so
+    // the same loads need a different curve); the other families always leave at entry height.
+    let exit_dz = exit_height_m(&d.best.path);
+    if exit_dz.abs() > 1e-3 {
+        row(
+            &mut out,
+            "exit above entry (heartline)",
+            format!("{exit_dz:.3} m"),
+        );
+    }
     if !d.shape_labels.is_empty() {
         let p: Vec<String> = d
             .shape_labels
@@ -202,6 +212,14 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
     out.push_str(CAUTION);
     out.push('\n');
     out
+}
+
+/// Heartline height of the end of the path above its start, m.
+pub fn exit_height_m(path: &crate::geometry::Centreline) -> f64 {
+    match (path.stations.first(), path.stations.last()) {
+        (Some(a), Some(b)) => b.heartline_m.z - a.heartline_m.z,
+        _ => 0.0,
+    }
 }
 
 /// The message for an infeasible brief.
