@@ -34,11 +34,17 @@ pub enum ShapeKind {
     Clothoid,
     /// Curvature a smooth cubic spline of arc length, symmetric about the top.
     Spline,
+    /// Force-first: curvature solved from a target normal load along the turn (`[profile]` table).
+    Profile,
 }
 
 impl ShapeKind {
     /// Every family, in the order reports list them.
     pub const ALL: [ShapeKind; 3] = [ShapeKind::Circle, ShapeKind::Clothoid, ShapeKind::Spline];
+    /// Families whose curvature depends on the ride (entry speed and losses), not on a size.
+    /// They are kept out of [`ShapeKind::ALL`]: they have no free size, so "every family at this
+    /// top radius" comparisons do not apply to them, and they need a `[profile]` table.
+    pub const FORCE_FIRST: [ShapeKind; 1] = [ShapeKind::Profile];
 
     /// The name used in briefs, flags and file names.
     pub fn name(self) -> &'static str {
@@ -46,6 +52,7 @@ impl ShapeKind {
             ShapeKind::Circle => "circle",
             ShapeKind::Clothoid => "clothoid",
             ShapeKind::Spline => "spline",
+            ShapeKind::Profile => "profile",
         }
     }
 
@@ -53,11 +60,12 @@ impl ShapeKind {
     pub fn parse(text: &str) -> Result<Self, BriefError> {
         ShapeKind::ALL
             .into_iter()
+            .chain(ShapeKind::FORCE_FIRST)
             .find(|k| k.name() == text.trim().to_ascii_lowercase())
             .ok_or_else(|| BriefError {
                 field: "shape".into(),
                 message: format!(
-                    "unknown shape family '{text}'; choose one of circle, clothoid, spline"
+                    "unknown shape family '{text}'; choose one of circle, clothoid, spline, profile"
                 ),
             })
     }
@@ -114,6 +122,123 @@ pub struct BriefInput {
     pub car_pitch_m: Option<f64>,
     pub lateral_shift_m: Option<f64>,
     pub limits_file: Option<String>,
+    /// Target load profile of the `profile` family (TOML table `[profile]`).
+    pub profile: Option<ProfileInput>,
+}
+
+/// The `[profile]` table as written: target normal load at control angles of the turn.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProfileInput {
+    /// Turning angles of the control points, degrees, from 0 (entry) rising to 360 (exit), or to
+    /// 180 (the top) when `symmetric`.
+    pub angles_deg: Option<Vec<f64>>,
+    /// Target normal load at each control angle, g.
+    pub normal_g: Option<Vec<f64>>,
+    /// Mirror the control points about the top (default true).
+    pub symmetric: Option<bool>,
+    /// Turn spent in the clothoid-like transition at entry and at exit, degrees (default 20).
+    pub transition_deg: Option<f64>,
+    /// Let the optimiser tune the control loads under the brief's limits and objective (default false:
+    /// the loads are used exactly as written).
+    pub tune: Option<bool>,
+}
+
+/// A checked target load profile, angles in radians over the whole turn [0, 2π].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProfileSpec {
+    /// Control angles as written, rad (to π if symmetric, else to 2π).
+    pub angles_rad: Vec<f64>,
+    /// Control loads as written, g.
+    pub normal_g: Vec<f64>,
+    pub symmetric: bool,
+    pub transition_rad: f64,
+    pub tune: bool,
+}
+
+/// Most control points a profile may have (they become optimiser parameters).
+pub const MAX_PROFILE_POINTS: usize = 16;
+/// Control loads allowed, g: a loop needs n > cos θ, so nothing below −1 g can turn it; above 15 g
+/// is beyond any ride.
+pub const PROFILE_LOAD_RANGE_G: (f64, f64) = (-1.0, 15.0);
+
+impl ProfileInput {
+    /// Check the table: angles rising from 0 to 180° (symmetric) or 360°, loads in range.
+    pub fn resolve(&self) -> Result<ProfileSpec, BriefError> {
+        let symmetric = self.symmetric.unwrap_or(true);
+        let end = if symmetric { 180.0 } else { 360.0 };
+        let angles = self.angles_deg.clone().ok_or_else(|| {
+            err(
+                "profile.angles_deg",
+                "missing; give the control angles in degrees, 0 to 180 (symmetric) or 0 to 360",
+            )
+        })?;
+        let loads = self.normal_g.clone().ok_or_else(|| {
+            err(
+                "profile.normal_g",
+                "missing; give the target normal load in g at each control angle",
+            )
+        })?;
+        if angles.len() < 2 || angles.len() > MAX_PROFILE_POINTS {
+            return Err(err(
+                "profile.angles_deg",
+                format!(
+                    "has {} control points; give 2 to {MAX_PROFILE_POINTS}",
+                    angles.len()
+                ),
+            ));
+        }
+        if loads.len() != angles.len() {
+            return Err(err(
+                "profile.normal_g",
+                format!(
+                    "has {} values but angles_deg has {}; give one load per angle",
+                    loads.len(),
+                    angles.len()
+                ),
+            ));
+        }
+        for (i, &a) in angles.iter().enumerate() {
+            in_range("profile.angles_deg", a, 0.0, end, "degrees")?;
+            if i > 0 && a <= angles[i - 1] {
+                return Err(err(
+                    "profile.angles_deg",
+                    format!(
+                        "{a}° does not rise above {}°; angles must increase",
+                        angles[i - 1]
+                    ),
+                ));
+            }
+        }
+        if angles[0] != 0.0 || angles[angles.len() - 1] != end {
+            return Err(err(
+                "profile.angles_deg",
+                format!(
+                    "must start at 0° and end at {end}° (symmetric = {symmetric}) so the target covers the whole turn; got {}° to {}°",
+                    angles[0],
+                    angles[angles.len() - 1]
+                ),
+            ));
+        }
+        let (lo, hi) = PROFILE_LOAD_RANGE_G;
+        for &n in &loads {
+            in_range("profile.normal_g", n, lo, hi, "g")?;
+        }
+        let transition_deg = in_range(
+            "profile.transition_deg",
+            self.transition_deg.unwrap_or(20.0),
+            0.0,
+            90.0,
+            "degrees",
+        )?;
+        Ok(ProfileSpec {
+            angles_rad: angles.iter().map(|a| a.to_radians()).collect(),
+            normal_g: loads,
+            symmetric,
+            transition_rad: transition_deg.to_radians(),
+            tune: self.tune.unwrap_or(false),
+        })
+    }
 }
 
 /// A complete, checked brief in SI units.
@@ -145,6 +270,8 @@ pub struct Brief {
     pub lateral_shift_m: f64,
     /// Duration-based limit table (TOML) for the envelope check; `None`: the built-in ILLUSTRATIVE one.
     pub limits_file: Option<String>,
+    /// The target load profile (always present when `shape` is `profile`).
+    pub profile: Option<ProfileSpec>,
 }
 
 /// A field of the brief that cannot be used, and why.
@@ -244,7 +371,8 @@ impl BriefInput {
             cars,
             car_pitch_m,
             lateral_shift_m,
-            limits_file
+            limits_file,
+            profile
         )
     }
 
@@ -340,11 +468,24 @@ impl BriefInput {
             ));
         }
         let (cars, car_pitch_m, lateral_shift_m, limits_file) = self.resolve_train_and_shift()?;
+        let profile = match (shape, &self.profile) {
+            // Checked even when another family is chosen (a user may switch with --shape), so a
+            // brief can be designed with both.
+            (_, Some(p)) => Some(p.resolve()?),
+            (ShapeKind::Profile, None) => {
+                return Err(err(
+                    "profile",
+                    "shape = \"profile\" needs a [profile] table with angles_deg and normal_g (see examples/profile-brief.toml)",
+                ));
+            }
+            _ => None,
+        };
         Ok(Brief {
             cars,
             car_pitch_m,
             lateral_shift_m,
             limits_file,
+            profile,
             name,
             title,
             shape,

@@ -10,6 +10,7 @@
 //!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
 
+pub mod centreline;
 pub mod envelope;
 
 use serde::Serialize;

@@ -41,6 +41,42 @@ pub enum Command {
     Design(DesignArgs),
     /// Print the built-in demo brief (TOML) to start your own from.
     DemoBrief,
+    /// Check a centreline from a DXF or CSV file: fit it, compute the loads and check the limits.
+    Check(CheckArgs),
+}
+
+/// What the points of a checked centreline are.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PointsArg {
+    /// The rail (track) centreline; the heartline is --heartline-height above it.
+    Rail,
+    /// The rider's heartline.
+    Heartline,
+}
+
+#[derive(Debug, Clone, Args)]
+pub struct CheckArgs {
+    /// Centreline file: .dxf (one POLYLINE, LWPOLYLINE or SPLINE, see --layer) or CSV of x,y,z points
+    /// in metres, Z up (header x_m,y_m,z_m, or three numeric columns without a header).
+    pub path: PathBuf,
+    /// Entry speed, losses, heartline height and limits: a brief file after PATH and/or flags.
+    #[command(flatten)]
+    pub brief: BriefArgs,
+    /// DXF layer holding the centreline (required when the file has more than one curve).
+    #[arg(long, value_name = "NAME")]
+    pub layer: Option<String>,
+    /// Whether the points are the rail centreline or the heartline.
+    #[arg(long, value_enum, default_value = "rail")]
+    pub points: PointsArg,
+    /// Smoothing spline tolerance: RMS distance allowed between the points and the fitted curve, m.
+    #[arg(long, value_name = "M", default_value_t = crate::geometry::fit::DEFAULT_TOLERANCE_M, allow_hyphen_values = true)]
+    pub fit_tolerance: f64,
+    /// Folder for the outputs (created if missing).
+    #[arg(long, default_value = "loopwright-out")]
+    pub out: PathBuf,
+    /// Print nothing but errors.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 /// Brief fields as flags; each overrides the same field of a brief file.
@@ -134,6 +170,9 @@ pub enum CliError {
     Infeasible(Box<Infeasible>),
     #[error("{0}")]
     Io(String),
+    /// A checked centreline fails a limit (exit code 3, like an infeasible brief); the text is the report.
+    #[error("{0}")]
+    Fails(String),
 }
 
 impl CliError {
@@ -142,6 +181,7 @@ impl CliError {
             CliError::Usage(_) => EXIT_USAGE,
             CliError::Infeasible(_) => EXIT_INFEASIBLE,
             CliError::Io(_) => EXIT_IO,
+            CliError::Fails(_) => EXIT_INFEASIBLE,
         }
     }
 }
@@ -214,6 +254,7 @@ impl BriefArgs {
             car_pitch_m: self.car_pitch,
             lateral_shift_m: self.lateral_shift,
             limits_file: self.limits.as_ref().map(|p| p.display().to_string()),
+            profile: None,
         }
     }
 
@@ -284,11 +325,79 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     Ok(out)
 }
 
+/// Largest fitting tolerance accepted, m.
+const MAX_FIT_TOLERANCE_M: f64 = 0.5;
+
+/// Run `check`: returns the text for standard output.
+pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
+    use crate::checks::centreline::{CheckFailure, CheckOptions, check_centreline};
+    use crate::geometry::fit::PointsAre;
+    use crate::import::{ImportError, read_centreline};
+    let tol = args.fit_tolerance;
+    if !(tol.is_finite() && tol > 0.0 && tol <= MAX_FIT_TOLERANCE_M) {
+        return Err(CliError::Usage(format!(
+            "--fit-tolerance {tol} m is out of range; allowed more than 0 up to {MAX_FIT_TOLERANCE_M} m"
+        )));
+    }
+    let mut brief = args.brief.resolve()?;
+    if args.brief.name.is_none() && args.brief.brief.is_none() {
+        // No brief named the run: name the outputs after the centreline file.
+        let stem: String = args
+            .path
+            .file_stem()
+            .map(|s| {
+                s.to_string_lossy()
+                    .chars()
+                    .map(|c| {
+                        if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                            c
+                        } else {
+                            '_'
+                        }
+                    })
+                    .take(64)
+                    .collect()
+            })
+            .unwrap_or_default();
+        brief.name = if stem.is_empty() { "loop".into() } else { stem };
+    }
+    let imported = read_centreline(&args.path, args.layer.as_deref()).map_err(|e| match e {
+        ImportError::Io { .. } => CliError::Io(e.to_string()),
+        ImportError::Format { .. } => CliError::Usage(e.to_string()),
+    })?;
+    let opts = CheckOptions {
+        points_are: match args.points {
+            PointsArg::Rail => PointsAre::Rail,
+            PointsArg::Heartline => PointsAre::Heartline,
+        },
+        tolerance_m: tol,
+    };
+    let file = args.path.display().to_string();
+    let checked = check_centreline(&brief, &imported, &file, &opts).map_err(|e| match e {
+        CheckFailure::Fit(f) => CliError::Usage(format!("{file}: {f}")),
+        stall @ CheckFailure::Stall { .. } => {
+            CliError::Fails(format!("{file}: {stall}\n{}", crate::report::CAUTION))
+        }
+    })?;
+    let files = crate::export::check::check_files(&checked)?;
+    let written = crate::export::write_files(files, &args.out)?;
+    let mut out = crate::report::check_summary(&checked);
+    out.push_str("wrote:\n");
+    for p in written {
+        out.push_str(&format!("  {}\n", p.display()));
+    }
+    if !checked.verdict.pass {
+        return Err(CliError::Fails(out));
+    }
+    Ok(if args.quiet { String::new() } else { out })
+}
+
 /// Run a parsed command.
 pub fn run(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
         Command::Design(a) => run_design(a),
         Command::DemoBrief => Ok(DEMO_BRIEF_TOML.to_string()),
+        Command::Check(a) => run_check(a),
     }
 }
 
@@ -314,6 +423,7 @@ where
         Err(e) => {
             match &e {
                 CliError::Infeasible(inf) => eprint!("loopwright: {}", infeasible_message(inf)),
+                CliError::Fails(report) => eprint!("{report}"),
                 other => eprintln!("loopwright: {other}"),
             }
             e.exit_code()

@@ -30,6 +30,8 @@
 //! assert!(c.stations.last().unwrap().heartline_m.norm() < 1e-9);
 //! ```
 
+pub mod fit;
+
 use nalgebra::Vector3;
 use std::f64::consts::PI;
 

@@ -17,6 +17,10 @@
 //! A brief no shape can meet yields [`Infeasible`], which says which limit binds and the nearest
 //! value that would work.
 
+mod force_first;
+
+pub use force_first::ProfileCost;
+
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::brent::{BrentOpt, BrentRoot};
 use argmin::solver::neldermead::NelderMead;
@@ -32,7 +36,7 @@ use crate::checks::{
 };
 use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
 use crate::geometry::Centreline;
-use crate::shape::{CurvatureProfile, ShapeFamily, family};
+use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -137,7 +141,12 @@ pub fn evaluate(
     top_radius_m: f64,
     spacing_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
-    let fam = family(kind);
+    if kind == ShapeKind::Profile && brief.profile.is_none() {
+        return Err(EvalFailure::Shape(
+            "the profile family needs a [profile] table in the brief".into(),
+        ));
+    }
+    let fam = family_for(brief, kind);
     let profile = fam
         .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
         .map_err(|e| EvalFailure::Shape(e.to_string()))?;
@@ -147,6 +156,12 @@ pub fn evaluate(
         spacing_m,
         brief.lateral_shift_m,
     );
+    // A force-first loop's size comes from the ride: report the top radius it actually has.
+    let top_radius_m = if fam.size_from_ride() {
+        1.0 / path.top().curvature_1_m
+    } else {
+        top_radius_m
+    };
     let cond = conditions(brief);
     let train = simulate_train(&path, &cond, &train_of(brief)).map_err(EvalFailure::Stall)?;
     let (summary, cars) = summarise_train(&path, &train);
@@ -182,6 +197,40 @@ pub fn train_of(brief: &Brief) -> Train {
 pub enum EvalFailure {
     Shape(String),
     Stall(Stall),
+}
+
+/// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
+/// load profile and ride (entry speed and losses); the others are pure geometry.
+pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
+    match (kind, &brief.profile) {
+        (ShapeKind::Profile, Some(spec)) => {
+            Box::new(Profile::new(spec.clone(), ride_context(brief)))
+        }
+        _ => family(kind),
+    }
+}
+
+/// The ride a force-first family is solved for. The brief's entry speed is where the lead-in
+/// starts (as for every family); the loop proper starts after the losses of the level lead-in,
+/// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
+pub fn ride_context(brief: &Brief) -> RideContext {
+    let (mu, k, l) = (
+        brief.rolling_resistance,
+        brief.drag_per_metre(),
+        brief.lead_length_m,
+    );
+    let g = crate::units::STANDARD_GRAVITY_M_S2;
+    let u0 = brief.entry_speed_m_s.powi(2);
+    let u = if k > 0.0 {
+        (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k
+    } else {
+        u0 - 2.0 * mu * g * l
+    };
+    RideContext {
+        entry_speed_m_s: u.max(0.0).sqrt(),
+        rolling_resistance: brief.rolling_resistance,
+        drag_per_metre: brief.drag_per_metre(),
+    }
 }
 
 /// Dynamics conditions from a brief.
@@ -522,6 +571,9 @@ pub fn design(brief: &Brief) -> Result<Design, Infeasible> {
 
 /// Design the loop the brief asks for with a given family.
 pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
+    if family_for(brief, kind).size_from_ride() {
+        return crate::optimiser::force_first::design_profile(brief, kind);
+    }
     let fam = family(kind);
     let counter = AtomicUsize::new(0);
     let shape = search_shape(brief, fam.as_ref(), &counter);

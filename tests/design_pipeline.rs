@@ -149,7 +149,12 @@ fn infeasible_height_suggests_the_closed_form_entry_speed() {
     b.max_g = 7.0;
     b.objective = Objective::Height { height_m: 20.0 };
     let err = design_family(&b, ShapeKind::Circle).unwrap_err();
-    let v = err.nearest.iter().find(|n| n.field == "entry_speed").expect("suggests a speed").value;
+    let v = err
+        .nearest
+        .iter()
+        .find(|n| n.field == "entry_speed")
+        .expect("suggests a speed")
+        .value;
     let expect = (6.0 * G * 10.0f64).sqrt();
     assert!((v - expect).abs() < 5e-3, "{v} vs {expect}");
 }

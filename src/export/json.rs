@@ -32,6 +32,8 @@ pub struct Report<'a> {
     pub max_load_step_g: f64,
     pub load_steps: &'a [LoadStep],
     pub exit_speed_m_s: f64,
+    /// Heartline exit above entry, m (non-zero only for force-first loops with losses).
+    pub exit_height_m: f64,
     pub time_in_loop_s: f64,
     pub shape_parameters: Vec<(&'static str, f64)>,
     pub checks: &'a [CheckLine],
@@ -72,6 +74,7 @@ pub fn report(d: &Design) -> Report<'_> {
         max_load_step_g: s.max_load_step_g,
         load_steps: &d.best.ride.steps,
         exit_speed_m_s: s.exit_speed_m_s,
+        exit_height_m: crate::report::exit_height_m(&d.best.path),
         time_in_loop_s: s.time_in_loop_s,
         shape_parameters: d
             .shape_labels

@@ -10,7 +10,10 @@
 //! - `<name>-loads.csv`: one row per station ([`table`]);
 //! - `<name>-cars.csv`: one row per car per station, for trains of two or more cars ([`table::cars_csv`]);
 //! - `<name>.json`: the report ([`json`]).
+//!
+//! A `check` run writes `<name>-check.json` and `<name>-check-loads.csv` ([`check`]).
 
+pub mod check;
 pub mod dxf;
 pub mod json;
 pub mod plot;
@@ -114,6 +117,24 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
         files.push((format!("{name}-cars.csv"), table::cars_csv(design)?));
     }
     Ok(files)
+}
+
+/// Write already-encoded files into `out_dir` (created if missing), each atomically.
+pub fn write_files(
+    files: Vec<(String, Vec<u8>)>,
+    out_dir: &Path,
+) -> Result<Vec<PathBuf>, ExportError> {
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
+    let mut written = Vec::new();
+    for (name, bytes) in files {
+        let path = out_dir.join(name);
+        write_atomic(&path, &bytes)?;
+        written.push(path);
+    }
+    Ok(written)
 }
 
 /// Encode and write every output of a design into `out_dir` (created if missing).

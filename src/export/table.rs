@@ -1,6 +1,8 @@
 //! The load-versus-arc-length table (CSV), one row per heartline station.
 
 use super::ExportError;
+use crate::dynamics::Ride;
+use crate::geometry::Centreline;
 use crate::optimiser::Design;
 
 /// Column names; units are in each name.
@@ -25,19 +27,18 @@ pub const COLUMNS: [&str; 16] = [
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
 pub fn loads_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
+    stations_csv(&design.best.path, &design.best.ride)
+}
+
+/// The CSV bytes of any sampled path and its ride (also used by `check`).
+pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportError> {
     let enc = |e: csv::Error| ExportError::Encode {
         what: "loads table",
         message: e.to_string(),
     };
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(COLUMNS).map_err(enc)?;
-    for (st, p) in design
-        .best
-        .path
-        .stations
-        .iter()
-        .zip(&design.best.ride.points)
-    {
+    for (st, p) in path.stations.iter().zip(&ride.points) {
         let h = st.heartline_m;
         let rec = [
             st.s_m,
