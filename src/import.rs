@@ -99,9 +99,8 @@ pub fn read_centreline(
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
     if is_dxf {
-        let drawing = Drawing::load_file(path)
-            .map_err(|e| format_err(&what, format!("is not a readable DXF: {e}")))?;
-        from_drawing(&drawing, layer, &what)
+        let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
+        parse_dxf_bytes(&bytes, layer, &what)
     } else {
         if layer.is_some() {
             return Err(format_err(
@@ -506,4 +505,31 @@ fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
         out.push(Vector3::new(q[0] / q[3], q[1] / q[3], q[2] / q[3]));
     }
     Ok(out)
+}
+
+/// Parse DXF bytes and read the centreline on `layer`.
+///
+/// The third-party DXF parser is run under `catch_unwind`: a malformed file must give the user a
+/// message, never a crash, whatever the parser does with it (found by fuzzing: see `fuzz/`).
+pub fn parse_dxf_bytes(
+    bytes: &[u8],
+    layer: Option<&str>,
+    what: &str,
+) -> Result<ImportedCentreline, ImportError> {
+    // Silence the default panic report for this call only; the user gets our message instead.
+    let hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(|_| {}));
+    let parsed = std::panic::catch_unwind(|| Drawing::load(&mut std::io::Cursor::new(bytes)));
+    std::panic::set_hook(hook);
+    let drawing = match parsed {
+        Ok(Ok(d)) => d,
+        Ok(Err(e)) => return Err(format_err(what, format!("is not a readable DXF: {e}"))),
+        Err(_) => {
+            return Err(format_err(
+                what,
+                "is not a readable DXF (the DXF parser gave up on it)",
+            ));
+        }
+    };
+    from_drawing(&drawing, layer, what)
 }
