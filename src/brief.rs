@@ -34,11 +34,17 @@ pub enum ShapeKind {
     Clothoid,
     /// Curvature a smooth cubic spline of arc length, symmetric about the top.
     Spline,
+    /// Force-first: curvature solved from a target normal load along the turn (`[profile]` table).
+    Profile,
 }
 
 impl ShapeKind {
     /// Every family, in the order reports list them.
     pub const ALL: [ShapeKind; 3] = [ShapeKind::Circle, ShapeKind::Clothoid, ShapeKind::Spline];
+    /// Families whose curvature depends on the ride (entry speed and losses), not on a size.
+    /// They are kept out of [`ShapeKind::ALL`]: they have no free size, so "every family at this
+    /// top radius" comparisons do not apply to them, and they need a `[profile]` table.
+    pub const FORCE_FIRST: [ShapeKind; 1] = [ShapeKind::Profile];
 
     /// The name used in briefs, flags and file names.
     pub fn name(self) -> &'static str {
@@ -46,6 +52,7 @@ impl ShapeKind {
             ShapeKind::Circle => "circle",
             ShapeKind::Clothoid => "clothoid",
             ShapeKind::Spline => "spline",
+            ShapeKind::Profile => "profile",
         }
     }
 
@@ -53,11 +60,12 @@ impl ShapeKind {
     pub fn parse(text: &str) -> Result<Self, BriefError> {
         ShapeKind::ALL
             .into_iter()
+            .chain(ShapeKind::FORCE_FIRST)
             .find(|k| k.name() == text.trim().to_ascii_lowercase())
             .ok_or_else(|| BriefError {
                 field: "shape".into(),
                 message: format!(
-                    "unknown shape family '{text}'; choose one of circle, clothoid, spline"
+                    "unknown shape family '{text}'; choose one of circle, clothoid, spline, profile"
                 ),
             })
     }
@@ -110,6 +118,127 @@ pub struct BriefInput {
     pub air_density_kg_m3: Option<f64>,
     pub lead_length_m: Option<f64>,
     pub spacing_m: Option<f64>,
+    pub cars: Option<i64>,
+    pub car_pitch_m: Option<f64>,
+    pub lateral_shift_m: Option<f64>,
+    pub limits_file: Option<String>,
+    /// Target load profile of the `profile` family (TOML table `[profile]`).
+    pub profile: Option<ProfileInput>,
+}
+
+/// The `[profile]` table as written: target normal load at control angles of the turn.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProfileInput {
+    /// Turning angles of the control points, degrees, from 0 (entry) rising to 360 (exit), or to
+    /// 180 (the top) when `symmetric`.
+    pub angles_deg: Option<Vec<f64>>,
+    /// Target normal load at each control angle, g.
+    pub normal_g: Option<Vec<f64>>,
+    /// Mirror the control points about the top (default true).
+    pub symmetric: Option<bool>,
+    /// Turn spent in the clothoid-like transition at entry and at exit, degrees (default 20).
+    pub transition_deg: Option<f64>,
+    /// Let the optimiser tune the control loads under the brief's limits and objective (default false:
+    /// the loads are used exactly as written).
+    pub tune: Option<bool>,
+}
+
+/// A checked target load profile, angles in radians over the whole turn [0, 2π].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProfileSpec {
+    /// Control angles as written, rad (to π if symmetric, else to 2π).
+    pub angles_rad: Vec<f64>,
+    /// Control loads as written, g.
+    pub normal_g: Vec<f64>,
+    pub symmetric: bool,
+    pub transition_rad: f64,
+    pub tune: bool,
+}
+
+/// Most control points a profile may have (they become optimiser parameters).
+pub const MAX_PROFILE_POINTS: usize = 16;
+/// Control loads allowed, g: a loop needs n > cos θ, so nothing below −1 g can turn it; above 15 g
+/// is beyond any ride.
+pub const PROFILE_LOAD_RANGE_G: (f64, f64) = (-1.0, 15.0);
+
+impl ProfileInput {
+    /// Check the table: angles rising from 0 to 180° (symmetric) or 360°, loads in range.
+    pub fn resolve(&self) -> Result<ProfileSpec, BriefError> {
+        let symmetric = self.symmetric.unwrap_or(true);
+        let end = if symmetric { 180.0 } else { 360.0 };
+        let angles = self.angles_deg.clone().ok_or_else(|| {
+            err(
+                "profile.angles_deg",
+                "missing; give the control angles in degrees, 0 to 180 (symmetric) or 0 to 360",
+            )
+        })?;
+        let loads = self.normal_g.clone().ok_or_else(|| {
+            err(
+                "profile.normal_g",
+                "missing; give the target normal load in g at each control angle",
+            )
+        })?;
+        if angles.len() < 2 || angles.len() > MAX_PROFILE_POINTS {
+            return Err(err(
+                "profile.angles_deg",
+                format!(
+                    "has {} control points; give 2 to {MAX_PROFILE_POINTS}",
+                    angles.len()
+                ),
+            ));
+        }
+        if loads.len() != angles.len() {
+            return Err(err(
+                "profile.normal_g",
+                format!(
+                    "has {} values but angles_deg has {}; give one load per angle",
+                    loads.len(),
+                    angles.len()
+                ),
+            ));
+        }
+        for (i, &a) in angles.iter().enumerate() {
+            in_range("profile.angles_deg", a, 0.0, end, "degrees")?;
+            if i > 0 && a <= angles[i - 1] {
+                return Err(err(
+                    "profile.angles_deg",
+                    format!(
+                        "{a}° does not rise above {}°; angles must increase",
+                        angles[i - 1]
+                    ),
+                ));
+            }
+        }
+        if angles[0] != 0.0 || angles[angles.len() - 1] != end {
+            return Err(err(
+                "profile.angles_deg",
+                format!(
+                    "must start at 0° and end at {end}° (symmetric = {symmetric}) so the target covers the whole turn; got {}° to {}°",
+                    angles[0],
+                    angles[angles.len() - 1]
+                ),
+            ));
+        }
+        let (lo, hi) = PROFILE_LOAD_RANGE_G;
+        for &n in &loads {
+            in_range("profile.normal_g", n, lo, hi, "g")?;
+        }
+        let transition_deg = in_range(
+            "profile.transition_deg",
+            self.transition_deg.unwrap_or(20.0),
+            0.0,
+            90.0,
+            "degrees",
+        )?;
+        Ok(ProfileSpec {
+            angles_rad: angles.iter().map(|a| a.to_radians()).collect(),
+            normal_g: loads,
+            symmetric,
+            transition_rad: transition_deg.to_radians(),
+            tune: self.tune.unwrap_or(false),
+        })
+    }
 }
 
 /// A complete, checked brief in SI units.
@@ -132,6 +261,17 @@ pub struct Brief {
     pub air_density_kg_m3: f64,
     pub lead_length_m: f64,
     pub spacing_m: f64,
+    /// Cars in the train (1: the point-mass model). `mass_kg` is the whole train, shared equally.
+    pub cars: usize,
+    /// Heartline distance between neighbouring cars, m.
+    pub car_pitch_m: f64,
+    /// Sideways spread of the loop so the exit passes beside the entry, m (positive: to the
+    /// rider's left; 0: planar loop).
+    pub lateral_shift_m: f64,
+    /// Duration-based limit table (TOML) for the envelope check; `None`: the built-in ILLUSTRATIVE one.
+    pub limits_file: Option<String>,
+    /// The target load profile (always present when `shape` is `profile`).
+    pub profile: Option<ProfileSpec>,
 }
 
 /// A field of the brief that cannot be used, and why.
@@ -164,6 +304,14 @@ pub mod defaults {
     pub const LEAD_LENGTH_M: f64 = 5.0;
     /// Heartline sample spacing for the reported design.
     pub const SPACING_M: f64 = 0.05;
+    /// One car: the point-mass model.
+    pub const CARS: usize = 1;
+    /// Car pitch, m (illustrative; from memory, coaster cars are of the order of 2-3 m long).
+    pub const CAR_PITCH_M: f64 = 2.5;
+    /// Lateral shift, m: one train envelope width, so that the envelopes of the entry and exit
+    /// trains (each this wide, centred on its track) just clear each other where the tracks pass.
+    /// 2.5 m is a car about 1.5–2 m wide plus clearance (common practice, no source; illustrative).
+    pub const LATERAL_SHIFT_M: f64 = 2.5;
 }
 
 fn err(field: &str, message: impl Into<String>) -> BriefError {
@@ -219,7 +367,12 @@ impl BriefInput {
             mass_kg,
             air_density_kg_m3,
             lead_length_m,
-            spacing_m
+            spacing_m,
+            cars,
+            car_pitch_m,
+            lateral_shift_m,
+            limits_file,
+            profile
         )
     }
 
@@ -314,7 +467,25 @@ impl BriefInput {
                 ),
             ));
         }
+        let (cars, car_pitch_m, lateral_shift_m, limits_file) = self.resolve_train_and_shift()?;
+        let profile = match (shape, &self.profile) {
+            // Checked even when another family is chosen (a user may switch with --shape), so a
+            // brief can be designed with both.
+            (_, Some(p)) => Some(p.resolve()?),
+            (ShapeKind::Profile, None) => {
+                return Err(err(
+                    "profile",
+                    "shape = \"profile\" needs a [profile] table with angles_deg and normal_g (see examples/profile-brief.toml)",
+                ));
+            }
+            _ => None,
+        };
         Ok(Brief {
+            cars,
+            car_pitch_m,
+            lateral_shift_m,
+            limits_file,
+            profile,
             name,
             title,
             shape,
@@ -372,6 +543,52 @@ impl BriefInput {
     }
 }
 
+impl BriefInput {
+    /// The train, lateral-shift and limits-file fields, checked.
+    fn resolve_train_and_shift(&self) -> Result<(usize, f64, f64, Option<String>), BriefError> {
+        use defaults as d;
+        let cars = match self.cars {
+            None => d::CARS,
+            Some(n) if (1..=40).contains(&n) => n as usize,
+            Some(n) => {
+                return Err(err(
+                    "cars",
+                    format!("{n} is out of range; allowed 1 to 40 cars"),
+                ));
+            }
+        };
+        let car_pitch_m = in_range(
+            "car_pitch_m",
+            self.car_pitch_m.unwrap_or(d::CAR_PITCH_M),
+            0.5,
+            20.0,
+            "m",
+        )?;
+        let train_m = (cars - 1) as f64 * car_pitch_m;
+        if train_m > 300.0 {
+            return Err(err(
+                "car_pitch_m",
+                format!(
+                    "{cars} cars at {car_pitch_m} m make a {train_m:.1} m train; allowed at most 300 m"
+                ),
+            ));
+        }
+        let shift = self.lateral_shift_m.unwrap_or(d::LATERAL_SHIFT_M);
+        let lateral_shift_m = in_range("lateral_shift_m", shift, -50.0, 50.0, "m")?;
+        if self
+            .limits_file
+            .as_ref()
+            .is_some_and(|f| f.trim().is_empty())
+        {
+            return Err(err(
+                "limits_file",
+                "is empty; give the path of a TOML limit table",
+            ));
+        }
+        Ok((cars, car_pitch_m, lateral_shift_m, self.limits_file.clone()))
+    }
+}
+
 impl Brief {
     /// The built-in demo brief.
     pub fn demo() -> Brief {
@@ -383,5 +600,47 @@ impl Brief {
     /// Drag deceleration per unit speed squared, 1/m: ρ·CdA/m, the k in d(v²)/ds = … − k·v².
     pub fn drag_per_metre(&self) -> f64 {
         self.air_density_kg_m3 * self.drag_area_m2 / self.mass_kg
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn flags_override_the_file_field_by_field() {
+        let file = BriefInput::from_toml("max_g = 4.0\nmin_top_g = 0.3\nname = \"a\"").unwrap();
+        let flags = BriefInput {
+            max_g: Some(5.0),
+            ..Default::default()
+        };
+        let b = file.overlay(flags).resolve().unwrap();
+        assert_eq!((b.max_g, b.min_top_g, b.name.as_str()), (5.0, 0.3, "a"));
+    }
+
+    #[test]
+    fn unknown_fields_are_rejected_with_their_name() {
+        let e = BriefInput::from_toml("max_gee = 4.0").unwrap_err();
+        assert!(e.to_string().contains("max_gee"), "{e}");
+    }
+
+    #[test]
+    fn the_demo_brief_is_valid() {
+        let b = Brief::demo();
+        assert_eq!(b.name, "copperwing");
+        assert_eq!(b.entry_speed_m_s, 25.0);
+    }
+
+    // 1 mph = 0.44704 m/s exactly (international mile, 1959); 90 km/h = 25 m/s.
+    #[test]
+    fn speeds_in_toml_accept_units() {
+        for (text, v) in [
+            ("entry_speed = 25", 25.0),
+            ("entry_speed = \"90km/h\"", 25.0),
+            ("entry_speed = \"50 mph\"", 22.352),
+        ] {
+            let b = BriefInput::from_toml(text).unwrap().resolve().unwrap();
+            assert!((b.entry_speed_m_s - v).abs() < 1e-12, "{text}");
+        }
     }
 }

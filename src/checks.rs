@@ -4,12 +4,19 @@
 //! length, peak and top loads, onset); [`check`] compares them with [`Limits`] and gives a
 //! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
 //!
+//! For a train, [`summarise_train`] gives each car's figures and a worst-car [`Summary`] (highest
+//! peak, lowest top load, …), so the checks and the optimiser constrain the worst car. The
+//! duration-based acceleration envelope is in [`envelope`].
+//!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
+
+pub mod centreline;
+pub mod envelope;
 
 use serde::Serialize;
 
 use crate::brief::Brief;
-use crate::dynamics::Ride;
+use crate::dynamics::{Ride, TrainRide};
 use crate::geometry::Centreline;
 
 /// The limits a design must meet.
@@ -60,6 +67,8 @@ pub struct Summary {
     pub min_tangential_g: f64,
     pub exit_speed_m_s: f64,
     pub time_in_loop_s: f64,
+    /// Largest |roll| of the rider's cross-axis from horizontal, degrees (0 on a planar loop).
+    pub peak_roll_deg: f64,
 }
 
 /// Reduce a ride to its key figures.
@@ -97,7 +106,69 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
         min_tangential_g: fold(&|i| pts[i].tangential_g, f64::MAX, f64::min),
         exit_speed_m_s: pts[last].speed_m_s,
         time_in_loop_s: pts[last].time_s - pts[first].time_s,
+        peak_roll_deg: path.peak_roll_rad().to_degrees(),
     }
+}
+
+/// Key figures of one car of a train.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct CarSummary {
+    /// 0 is the front car.
+    pub car: usize,
+    /// Heartline distance behind the front car, m.
+    pub offset_m: f64,
+    pub peak_normal_g: f64,
+    pub peak_normal_s_m: f64,
+    pub min_normal_g: f64,
+    pub top_normal_g: f64,
+    pub top_speed_m_s: f64,
+    pub peak_onset_g_s: f64,
+    pub peak_lateral_g: f64,
+    pub min_tangential_g: f64,
+}
+
+/// Each car's figures and the worst-car summary: the highest peak, onset, step and lateral load
+/// and the lowest minimum, top and tangential load of any car (the top speed is that of the car
+/// with the lowest top load; exit speed and time in the loop are the rear car's, when the whole
+/// train has left the loop). For one car it is [`summarise`] exactly.
+pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<CarSummary>) {
+    let per: Vec<Summary> = train.cars.iter().map(|r| summarise(path, r)).collect();
+    let cars = per
+        .iter()
+        .enumerate()
+        .map(|(j, s)| CarSummary {
+            car: j,
+            offset_m: j as f64 * train.train.car_pitch_m,
+            peak_normal_g: s.peak_normal_g,
+            peak_normal_s_m: s.peak_normal_s_m,
+            min_normal_g: s.min_normal_g,
+            top_normal_g: s.top_normal_g,
+            top_speed_m_s: s.top_speed_m_s,
+            peak_onset_g_s: s.peak_onset_g_s,
+            peak_lateral_g: s.peak_lateral_g,
+            min_tangential_g: s.min_tangential_g,
+        })
+        .collect();
+    let mut w = per[0];
+    for s in &per[1..] {
+        if s.peak_normal_g > w.peak_normal_g {
+            w.peak_normal_g = s.peak_normal_g;
+            w.peak_normal_s_m = s.peak_normal_s_m;
+        }
+        if s.top_normal_g < w.top_normal_g {
+            w.top_normal_g = s.top_normal_g;
+            w.top_speed_m_s = s.top_speed_m_s;
+        }
+        w.min_normal_g = w.min_normal_g.min(s.min_normal_g);
+        w.peak_onset_g_s = w.peak_onset_g_s.max(s.peak_onset_g_s);
+        w.max_load_step_g = w.max_load_step_g.max(s.max_load_step_g);
+        w.peak_lateral_g = w.peak_lateral_g.max(s.peak_lateral_g);
+        w.min_tangential_g = w.min_tangential_g.min(s.min_tangential_g);
+    }
+    let rear = per[per.len() - 1];
+    w.exit_speed_m_s = rear.exit_speed_m_s;
+    w.time_in_loop_s = rear.time_in_loop_s;
+    (w, cars)
 }
 
 /// Which limit a check line is about.

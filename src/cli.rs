@@ -8,6 +8,7 @@ use clap::{Args, Parser, Subcommand};
 use std::path::{Path, PathBuf};
 
 use crate::brief::{Brief, BriefError, BriefInput, DEMO_BRIEF_TOML, SpeedText};
+use crate::checks::envelope::{EnvelopeTable, MAX_LIMITS_BYTES};
 use crate::export::{ExportError, write_design};
 use crate::optimiser::{Infeasible, design};
 use crate::report::{infeasible_message, terminal_summary};
@@ -46,6 +47,42 @@ pub enum Command {
     Sweep(SweepArgs),
     /// Merge sweep shard CSVs into the CSV of the whole sweep.
     Merge(MergeArgs),
+    /// Check a centreline from a DXF or CSV file: fit it, compute the loads and check the limits.
+    Check(CheckArgs),
+}
+
+/// What the points of a checked centreline are.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PointsArg {
+    /// The rail (track) centreline; the heartline is --heartline-height above it.
+    Rail,
+    /// The rider's heartline.
+    Heartline,
+}
+
+#[derive(Debug, Clone, Args)]
+pub struct CheckArgs {
+    /// Centreline file: .dxf (one POLYLINE, LWPOLYLINE or SPLINE, see --layer) or CSV of x,y,z points
+    /// in metres, Z up (header x_m,y_m,z_m, or three numeric columns without a header).
+    pub path: PathBuf,
+    /// Entry speed, losses, heartline height and limits: a brief file after PATH and/or flags.
+    #[command(flatten)]
+    pub brief: BriefArgs,
+    /// DXF layer holding the centreline (required when the file has more than one curve).
+    #[arg(long, value_name = "NAME")]
+    pub layer: Option<String>,
+    /// Whether the points are the rail centreline or the heartline.
+    #[arg(long, value_enum, default_value = "rail")]
+    pub points: PointsArg,
+    /// Smoothing spline tolerance: RMS distance allowed between the points and the fitted curve, m.
+    #[arg(long, value_name = "M", default_value_t = crate::geometry::fit::DEFAULT_TOLERANCE_M, allow_hyphen_values = true)]
+    pub fit_tolerance: f64,
+    /// Folder for the outputs (created if missing).
+    #[arg(long, default_value = "loopwright-out")]
+    pub out: PathBuf,
+    /// Print nothing but errors.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 /// Brief fields as flags; each overrides the same field of a brief file.
@@ -98,6 +135,21 @@ pub struct BriefArgs {
     /// Heartline sample spacing of the reported design, m.
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub spacing: Option<f64>,
+    /// Cars in the train (default 1: a point mass); the train moves as one rigid chain.
+    #[arg(long, value_name = "N", allow_hyphen_values = true)]
+    pub cars: Option<i64>,
+    /// Heartline distance between neighbouring cars, m (default 2.5 m, illustrative).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub car_pitch: Option<f64>,
+    /// Spread the loop sideways so the exit passes beside the entry, m (default 2.5 m: one train
+    /// envelope width; 0 for a planar loop; negative to the right).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub lateral_shift: Option<f64>,
+    /// Duration-based acceleration limits (TOML, see examples/limits-illustrative.toml); a design
+    /// failing them exits 3, writing nothing. Without it the ILLUSTRATIVE built-in table is
+    /// reported, not enforced.
+    #[arg(long, value_name = "FILE")]
+    pub limits: Option<PathBuf>,
     /// File stem of the outputs (default: the brief's name).
     #[arg(long)]
     pub name: Option<String>,
@@ -127,6 +179,9 @@ pub enum CliError {
     Infeasible(Box<Infeasible>),
     #[error("{0}")]
     Io(String),
+    /// A checked centreline fails a limit (exit code 3, like an infeasible brief); the text is the report.
+    #[error("{0}")]
+    Fails(String),
 }
 
 impl CliError {
@@ -135,6 +190,7 @@ impl CliError {
             CliError::Usage(_) => EXIT_USAGE,
             CliError::Infeasible(_) => EXIT_INFEASIBLE,
             CliError::Io(_) => EXIT_IO,
+            CliError::Fails(_) => EXIT_INFEASIBLE,
         }
     }
 }
@@ -203,6 +259,11 @@ impl BriefArgs {
             air_density_kg_m3: self.air_density,
             lead_length_m: self.lead_length,
             spacing_m: self.spacing,
+            cars: self.cars,
+            car_pitch_m: self.car_pitch,
+            lateral_shift_m: self.lateral_shift,
+            limits_file: self.limits.as_ref().map(|p| p.display().to_string()),
+            profile: None,
         }
     }
 
@@ -213,10 +274,54 @@ impl BriefArgs {
     }
 }
 
+/// Read and check a duration-based limit table (`--limits` / `limits_file`).
+pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
+    let meta = std::fs::metadata(path)
+        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
+    if meta.len() > MAX_LIMITS_BYTES {
+        return Err(CliError::Usage(format!(
+            "limits file {} is {} bytes; a limit table is a small TOML file (at most {MAX_LIMITS_BYTES} bytes)",
+            path.display(),
+            meta.len()
+        )));
+    }
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
+    EnvelopeTable::from_toml(&text).map_err(|e| {
+        CliError::Usage(format!(
+            "{}: {e}\nhint: see examples/limits-illustrative.toml for the format",
+            path.display()
+        ))
+    })
+}
+
 /// Run `design`: returns the text for standard output.
 pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     let brief = args.brief.resolve()?;
-    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    // Read the limit table before the search, so a bad file fails fast.
+    let table = brief
+        .limits_file
+        .as_deref()
+        .map(|f| read_limits_file(Path::new(f)))
+        .transpose()?;
+    let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    let envelope = d
+        .assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative()))
+        .clone();
+    // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
+    if table.is_some() && !envelope.pass {
+        let mut reasons = vec![format!(
+            "the best loop for the brief fails the acceleration envelope of {}",
+            brief.limits_file.as_deref().unwrap_or("the limits file")
+        )];
+        reasons.extend(envelope.failures());
+        reasons.push("run without --limits to write the design for inspection".into());
+        return Err(CliError::Infeasible(Box::new(Infeasible {
+            shape: d.best.kind,
+            reasons,
+            nearest: vec![],
+        })));
+    }
     let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());
@@ -229,6 +334,73 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     Ok(out)
 }
 
+/// Largest fitting tolerance accepted, m.
+const MAX_FIT_TOLERANCE_M: f64 = 0.5;
+
+/// Run `check`: returns the text for standard output.
+pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
+    use crate::checks::centreline::{CheckFailure, CheckOptions, check_centreline};
+    use crate::geometry::fit::PointsAre;
+    use crate::import::{ImportError, read_centreline};
+    let tol = args.fit_tolerance;
+    if !(tol.is_finite() && tol > 0.0 && tol <= MAX_FIT_TOLERANCE_M) {
+        return Err(CliError::Usage(format!(
+            "--fit-tolerance {tol} m is out of range; allowed more than 0 up to {MAX_FIT_TOLERANCE_M} m"
+        )));
+    }
+    let mut brief = args.brief.resolve()?;
+    if args.brief.name.is_none() && args.brief.brief.is_none() {
+        // No brief named the run: name the outputs after the centreline file.
+        let stem: String = args
+            .path
+            .file_stem()
+            .map(|s| {
+                s.to_string_lossy()
+                    .chars()
+                    .map(|c| {
+                        if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                            c
+                        } else {
+                            '_'
+                        }
+                    })
+                    .take(64)
+                    .collect()
+            })
+            .unwrap_or_default();
+        brief.name = if stem.is_empty() { "loop".into() } else { stem };
+    }
+    let imported = read_centreline(&args.path, args.layer.as_deref()).map_err(|e| match e {
+        ImportError::Io { .. } => CliError::Io(e.to_string()),
+        ImportError::Format { .. } => CliError::Usage(e.to_string()),
+    })?;
+    let opts = CheckOptions {
+        points_are: match args.points {
+            PointsArg::Rail => PointsAre::Rail,
+            PointsArg::Heartline => PointsAre::Heartline,
+        },
+        tolerance_m: tol,
+    };
+    let file = args.path.display().to_string();
+    let checked = check_centreline(&brief, &imported, &file, &opts).map_err(|e| match e {
+        CheckFailure::Fit(f) => CliError::Usage(format!("{file}: {f}")),
+        stall @ CheckFailure::Stall { .. } => {
+            CliError::Fails(format!("{file}: {stall}\n{}", crate::report::CAUTION))
+        }
+    })?;
+    let files = crate::export::check::check_files(&checked)?;
+    let written = crate::export::write_files(files, &args.out)?;
+    let mut out = crate::report::check_summary(&checked);
+    out.push_str("wrote:\n");
+    for p in written {
+        out.push_str(&format!("  {}\n", p.display()));
+    }
+    if !checked.verdict.pass {
+        return Err(CliError::Fails(out));
+    }
+    Ok(if args.quiet { String::new() } else { out })
+}
+
 /// Run a parsed command.
 pub fn run(cli: &Cli) -> Result<String, CliError> {
     match &cli.command {
@@ -237,6 +409,7 @@ pub fn run(cli: &Cli) -> Result<String, CliError> {
         Command::Compare(a) => study::run_compare(a),
         Command::Sweep(a) => study::run_sweep(a),
         Command::Merge(a) => study::run_merge(a),
+        Command::Check(a) => run_check(a),
     }
 }
 
@@ -262,6 +435,7 @@ where
         Err(e) => {
             match &e {
                 CliError::Infeasible(inf) => eprint!("loopwright: {}", infeasible_message(inf)),
+                CliError::Fails(report) => eprint!("{report}"),
                 other => eprintln!("loopwright: {other}"),
             }
             e.exit_code()

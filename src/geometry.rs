@@ -10,6 +10,17 @@
 //! - clothoid (κ linear in s): Fresnel integrals, via the `fresnel` crate (a translation of Cephes);
 //! - cubic curvature: 8-point Gauss–Legendre quadrature on every sample interval.
 //!
+//! Lateral shift ([`Centreline::build_shifted`]): the planar loop is spread sideways so that its
+//! exit track passes beside its entry track, y(σ) = shift · S((σ − a)/(b − a)) over the loop proper
+//! [a, b] of the planar arc length σ, with S(u) = 6u⁵ − 15u⁴ + 10u³ ("smootherstep"). S' and S''
+//! vanish at both ends, so y, its slope and its curvature join the level lead track smoothly and
+//! the curvature stays continuous. The 3D heartline is r(σ) = (x(σ), y(σ), z(σ)); its true arc
+//! length s = ∫ √(1 + y'²) dσ is integrated per sample interval (8-point Gauss–Legendre), so
+//! `s_m` stays the true heartline arc length; the curvature vector is (r'' − (r''·T)T)/|r'|².
+//! The rider's head keeps the planar loop's direction (−sin θ, 0, cos θ), which is exactly
+//! perpendicular to the 3D tangent: the track is not banked to cancel the lateral load the shift
+//! causes, and the resulting roll of the rider's cross-axis is [`Station::roll_rad`].
+//!
 //! ```
 //! use loopwright::{geometry::Centreline, shape::{family}, brief::ShapeKind};
 //! let profile = family(ShapeKind::Circle).curvature(&[], 10.0).unwrap();
@@ -18,6 +29,8 @@
 //! assert!((c.top().heartline_m.z - 20.0).abs() < 1e-9);
 //! assert!(c.stations.last().unwrap().heartline_m.norm() < 1e-9);
 //! ```
+
+pub mod fit;
 
 use nalgebra::Vector3;
 use std::f64::consts::PI;
@@ -396,6 +409,134 @@ fn planar_station(
     }
 }
 
+/// Default lateral shift, m: one train envelope width (the rule is in [`crate::brief::defaults`]).
+pub const DEFAULT_LATERAL_SHIFT_M: f64 = crate::brief::defaults::LATERAL_SHIFT_M;
+
+/// y, dy/dσ and d²y/dσ² of the smootherstep spread over `[a, a + len]`.
+pub fn lateral_offset(shift_m: f64, a: f64, len: f64, sigma: f64) -> (f64, f64, f64) {
+    if len <= 0.0 || sigma <= a {
+        return (0.0, 0.0, 0.0);
+    }
+    if sigma >= a + len {
+        return (shift_m, 0.0, 0.0);
+    }
+    let u = (sigma - a) / len;
+    let y = u * u * u * (10.0 + u * (-15.0 + 6.0 * u));
+    let dy = 30.0 * u * u * (1.0 - u) * (1.0 - u);
+    let ddy = 60.0 * u * (1.0 - u) * (1.0 - 2.0 * u);
+    (shift_m * y, shift_m * dy / len, shift_m * ddy / (len * len))
+}
+
+impl Station {
+    /// Roll of the rider's cross-axis from horizontal, rad: asin(left · ẑ). Positive means the
+    /// rider's right side is down (the aircraft convention). Zero everywhere on a planar loop.
+    pub fn roll_rad(&self) -> f64 {
+        // + 0.0 turns −0 into 0, so tables do not print "-0.000" on level track.
+        self.left.z.clamp(-1.0, 1.0).asin() + 0.0
+    }
+}
+
+impl Centreline {
+    /// As [`Centreline::build`], with the loop spread `lateral_shift_m` to the rider's left (negative:
+    /// to the right) so that the exit passes beside the entry; see the module docs. A shift of 0
+    /// gives the planar loop (to rounding).
+    pub fn build_shifted(
+        profile: &CurvatureProfile,
+        heartline_height_m: f64,
+        spacing_m: f64,
+        lateral_shift_m: f64,
+    ) -> Centreline {
+        Self::build(profile, heartline_height_m, spacing_m).with_lateral_shift(lateral_shift_m)
+    }
+
+    /// Spread a planar centreline sideways (see the module docs). Station spacing stays that of the
+    /// planar arc length σ; `s_m` becomes the true 3D heartline arc length.
+    pub fn with_lateral_shift(self, shift_m: f64) -> Centreline {
+        let (a, b) = self.loop_span_m;
+        let len = b - a;
+        let h = self.heartline_height_m;
+        let mut stations = Vec::with_capacity(self.stations.len());
+        // s = σ + ∫(√(1 + y'²) − 1) dσ: only the small excess is integrated, so a zero shift gives
+        // s = σ exactly and the excess keeps full relative precision.
+        let mut excess = 0.0;
+        for (i, st) in self.stations.iter().enumerate() {
+            let sigma = st.s_m;
+            if i > 0 {
+                let s0 = self.stations[i - 1].s_m;
+                let half = 0.5 * (sigma - s0);
+                for (node, w) in GL8 {
+                    let (_, dy, _) = lateral_offset(shift_m, a, len, s0 + half * (node + 1.0));
+                    let d2 = dy * dy;
+                    excess += half * w * d2 / ((1.0 + d2).sqrt() + 1.0);
+                }
+            }
+            let s_true = sigma + excess;
+            let (y, dy, ddy) = lateral_offset(shift_m, a, len, sigma);
+            let (sn, cs) = st.pitch_rad.sin_cos();
+            // Planar curvature of the profile (κ about the left axis of the unshifted loop).
+            let k = st.curvature_1_m;
+            let rp = Vector3::new(cs, dy, sn);
+            let speed = rp.norm();
+            let tangent = rp / speed;
+            let rpp = Vector3::new(-k * sn, ddy, k * cs);
+            let curvature_vec_1_m = (rpp - rpp.dot(&tangent) * tangent) / (speed * speed);
+            let head = Vector3::new(-sn, 0.0, cs);
+            let left = head.cross(&tangent);
+            let heartline_m = Vector3::new(st.heartline_m.x, y, st.heartline_m.z);
+            stations.push(Station {
+                s_m: s_true,
+                heartline_m,
+                rail_m: heartline_m - h * head,
+                tangent,
+                head,
+                left,
+                pitch_rad: st.pitch_rad,
+                curvature_1_m: curvature_vec_1_m.dot(&head),
+                curvature_vec_1_m,
+                piece: st.piece,
+                in_loop: st.in_loop,
+            });
+        }
+        // Planar arc lengths of boundaries are station arc lengths; map them to the true ones.
+        let to_true = |sigma: f64| {
+            self.stations
+                .iter()
+                .position(|st| st.s_m == sigma)
+                .map_or(sigma, |i| stations[i].s_m)
+        };
+        let steps = self
+            .steps
+            .iter()
+            .map(|c| CurvatureStep {
+                s_m: to_true(c.s_m),
+                before_1_m: c.before_1_m,
+                after_1_m: c.after_1_m,
+            })
+            .collect();
+        let loop_span_m = (to_true(a), to_true(b));
+        Centreline {
+            stations,
+            steps,
+            heartline_height_m: h,
+            loop_span_m,
+        }
+    }
+
+    /// Largest |roll| of the rider's cross-axis anywhere on the path, rad.
+    pub fn peak_roll_rad(&self) -> f64 {
+        self.stations
+            .iter()
+            .map(|s| s.roll_rad().abs())
+            .fold(0.0, f64::max)
+    }
+
+    /// Lateral extent of the heartline, m (max y − min y).
+    pub fn lateral_extent_m(&self) -> f64 {
+        let ys = self.stations.iter().map(|s| s.heartline_m.y);
+        ys.clone().fold(f64::MIN, f64::max) - ys.fold(f64::MAX, f64::min)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -439,6 +580,69 @@ mod tests {
             assert!((last.pitch_rad - 2.0 * PI).abs() < 1e-12);
             // The rail sits heartline_height below the heartline on level track.
             assert!((last.rail_m.z + 1.1).abs() < 1e-12);
+        }
+    }
+
+    // Smootherstep y = 6u⁵ − 15u⁴ + 10u³ (Perlin's "improved noise" fade curve): y(0)=0, y(1)=1,
+    // y', y'' vanish at both ends; derivatives checked against central differences of y itself.
+    #[test]
+    fn lateral_offset_is_smootherstep_with_matching_derivatives() {
+        let (shift, a, len) = (3.0, 5.0, 40.0);
+        assert_eq!(lateral_offset(shift, a, len, a), (0.0, 0.0, 0.0));
+        assert_eq!(lateral_offset(shift, a, len, a + len), (shift, 0.0, 0.0));
+        let (y, _, ddy) = lateral_offset(shift, a, len, a + 0.5 * len);
+        assert!((y - 1.5).abs() < 1e-15 && ddy.abs() < 1e-15);
+        let h = 1e-4;
+        for i in 1..20 {
+            let x = a + len * i as f64 / 20.0;
+            let (y0, dy, ddy) = lateral_offset(shift, a, len, x);
+            let (ym, _, _) = lateral_offset(shift, a, len, x - h);
+            let (yp, _, _) = lateral_offset(shift, a, len, x + h);
+            assert!(((yp - ym) / (2.0 * h) - dy).abs() < 1e-8);
+            assert!(((yp - 2.0 * y0 + ym) / (h * h) - ddy).abs() < 1e-5);
+        }
+    }
+
+    // s_m must be the true 3D arc length: a chord of a smooth curve is shorter than its arc by
+    // κ²Δs³/24 to leading order (Taylor expansion of the arc, e.g. do Carmo, "Differential
+    // Geometry of Curves and Surfaces", §1-5), so |Δs − chord| must stay within that bound.
+    #[test]
+    fn shifted_arc_length_is_true_3d_arc_length() {
+        let f = family(ShapeKind::Clothoid);
+        let p = f
+            .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
+            .unwrap();
+        let c = Centreline::build_shifted(&p, 1.1, 0.05, 3.0);
+        let mut worst = 0.0f64;
+        for w in c.stations.windows(2) {
+            let ds = w[1].s_m - w[0].s_m;
+            let chord = (w[1].heartline_m - w[0].heartline_m).norm();
+            let k = w[0]
+                .curvature_vec_1_m
+                .norm()
+                .max(w[1].curvature_vec_1_m.norm());
+            let bound = 1.2 * k * k * ds.powi(3) / 24.0 + 1e-12;
+            worst = worst.max((ds - chord).abs() / bound);
+            assert!(
+                ds - chord >= -1e-12 && ds - chord <= bound,
+                "Δs {ds} chord {chord} bound {bound}"
+            );
+        }
+        assert!(
+            worst > 0.1,
+            "the chord test never came near its bound ({worst}); is it testing anything?"
+        );
+        // The exit passes beside the entry, 3 m to the left, level.
+        let last = c.stations.last().unwrap();
+        assert!((last.heartline_m.y - 3.0).abs() < 1e-12 && last.heartline_m.z.abs() < 1e-9);
+        assert!(c.peak_roll_rad() > 0.01);
+        // Frames stay orthonormal.
+        for st in &c.stations {
+            assert!(
+                (st.tangent.norm() - 1.0).abs() < 1e-12 && st.head.dot(&st.tangent).abs() < 1e-12
+            );
+            assert!((st.left.norm() - 1.0).abs() < 1e-12);
+            assert!(st.curvature_vec_1_m.dot(&st.tangent).abs() < 1e-12);
         }
     }
 }

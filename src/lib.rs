@@ -2,8 +2,10 @@
 //!
 //! Data flows one way, one module per stage:
 //! [`brief`] → [`shape`] → [`geometry`] → [`dynamics`] → [`checks`] → [`optimiser`] → [`export`]
-//! (with [`report`] for the terminal). No stage uses a later one. Studies over many loops,
-//! [`compare`] (every family) and [`sweep`] (a grid of briefs), sit between optimiser and export.
+//! (with [`report`] for the terminal). No stage uses a later one. `check` enters through
+//! [`import`] (a centreline from a file) and [`geometry::fit`] instead of [`shape`]. Studies over
+//! many loops, [`compare`] (every family) and [`sweep`] (a grid of briefs), sit between optimiser
+//! and export.
 //!
 //! CAUTION: results are for concept studies only. Final design must follow the governing standard
 //! (e.g. ASTM F2291, EN 13814), local codes and a licensed engineer's review. Default limits are
@@ -16,6 +18,7 @@ pub mod compare;
 pub mod dynamics;
 pub mod export;
 pub mod geometry;
+pub mod import;
 pub mod optimiser;
 pub mod report;
 pub mod shape;

@@ -17,6 +17,10 @@
 //! A brief no shape can meet yields [`Infeasible`], which says which limit binds and the nearest
 //! value that would work.
 
+mod force_first;
+
+pub use force_first::ProfileCost;
+
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::brent::{BrentOpt, BrentRoot};
 use argmin::solver::neldermead::NelderMead;
@@ -26,10 +30,13 @@ use std::fmt;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use crate::brief::{Brief, Objective, ShapeKind};
-use crate::checks::{Limits, Summary, Verdict, check, onset_for_limit, summarise};
-use crate::dynamics::{Conditions, Ride, Stall, simulate};
+use crate::checks::envelope::{EnvelopeReport, EnvelopeTable, evaluate as evaluate_envelope};
+use crate::checks::{
+    CarSummary, Limits, Summary, Verdict, check, onset_for_limit, summarise_train,
+};
+use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
 use crate::geometry::Centreline;
-use crate::shape::{CurvatureProfile, ShapeFamily, family};
+use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -46,9 +53,18 @@ pub struct Evaluation {
     pub spacing_m: f64,
     pub profile: CurvatureProfile,
     pub path: Centreline,
+    /// The front car's ride (for one car, the point-mass ride).
     pub ride: Ride,
+    /// Every car's ride.
+    pub train: TrainRide,
+    /// Worst-car figures: the checks and the search constrain the worst car.
     pub summary: Summary,
+    /// Each car's figures (front first).
+    pub cars: Vec<CarSummary>,
     pub verdict: Verdict,
+    /// The duration-based envelope check of every car, once assessed ([`Design::assess_envelope`];
+    /// the search itself does not evaluate it).
+    pub envelope: Option<EnvelopeReport>,
 }
 
 /// The result of a design run: the reported evaluation plus its finer re-check.
@@ -61,6 +77,16 @@ pub struct Design {
     pub verification: Evaluation,
     /// How many loops the search evaluated.
     pub evaluations: usize,
+}
+
+impl Design {
+    /// Check the verification ride (every car) against an envelope table, e.g. a user's `--limits`
+    /// file or [`EnvelopeTable::illustrative`]; the result is kept in `verification.envelope`.
+    pub fn assess_envelope(&mut self, table: &EnvelopeTable) -> &EnvelopeReport {
+        let v = &mut self.verification;
+        v.envelope
+            .insert(evaluate_envelope(table, &v.path, &v.train))
+    }
 }
 
 /// A suggestion of the nearest value of a brief field that would make the brief feasible.
@@ -115,15 +141,33 @@ pub fn evaluate(
     top_radius_m: f64,
     spacing_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
-    let fam = family(kind);
+    if kind == ShapeKind::Profile && brief.profile.is_none() {
+        return Err(EvalFailure::Shape(
+            "the profile family needs a [profile] table in the brief".into(),
+        ));
+    }
+    let fam = family_for(brief, kind);
     let profile = fam
         .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
         .map_err(|e| EvalFailure::Shape(e.to_string()))?;
-    let path = Centreline::build(&profile, brief.heartline_height_m, spacing_m);
+    let path = Centreline::build_shifted(
+        &profile,
+        brief.heartline_height_m,
+        spacing_m,
+        brief.lateral_shift_m,
+    );
+    // A force-first loop's size comes from the ride: report the top radius it actually has.
+    let top_radius_m = if fam.size_from_ride() {
+        1.0 / path.top().curvature_1_m
+    } else {
+        top_radius_m
+    };
     let cond = conditions(brief);
-    let ride = simulate(&path, &cond).map_err(EvalFailure::Stall)?;
-    let summary = summarise(&path, &ride);
+    let train = simulate_train(&path, &cond, &train_of(brief)).map_err(EvalFailure::Stall)?;
+    let (summary, cars) = summarise_train(&path, &train);
     let verdict = check(&summary, &Limits::from(brief));
+    let ride = train.cars[0].clone();
+    let envelope = None;
     Ok(Evaluation {
         kind,
         shape: shape.to_vec(),
@@ -132,9 +176,20 @@ pub fn evaluate(
         profile,
         path,
         ride,
+        train,
         summary,
+        cars,
         verdict,
+        envelope,
     })
+}
+
+/// The train a brief describes.
+pub fn train_of(brief: &Brief) -> Train {
+    Train {
+        cars: brief.cars,
+        car_pitch_m: brief.car_pitch_m,
+    }
 }
 
 /// Why a loop could not be evaluated at all.
@@ -142,6 +197,40 @@ pub fn evaluate(
 pub enum EvalFailure {
     Shape(String),
     Stall(Stall),
+}
+
+/// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
+/// load profile and ride (entry speed and losses); the others are pure geometry.
+pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
+    match (kind, &brief.profile) {
+        (ShapeKind::Profile, Some(spec)) => {
+            Box::new(Profile::new(spec.clone(), ride_context(brief)))
+        }
+        _ => family(kind),
+    }
+}
+
+/// The ride a force-first family is solved for. The brief's entry speed is where the lead-in
+/// starts (as for every family); the loop proper starts after the losses of the level lead-in,
+/// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
+pub fn ride_context(brief: &Brief) -> RideContext {
+    let (mu, k, l) = (
+        brief.rolling_resistance,
+        brief.drag_per_metre(),
+        brief.lead_length_m,
+    );
+    let g = crate::units::STANDARD_GRAVITY_M_S2;
+    let u0 = brief.entry_speed_m_s.powi(2);
+    let u = if k > 0.0 {
+        (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k
+    } else {
+        u0 - 2.0 * mu * g * l
+    };
+    RideContext {
+        entry_speed_m_s: u.max(0.0).sqrt(),
+        rolling_resistance: brief.rolling_resistance,
+        drag_per_metre: brief.drag_per_metre(),
+    }
 }
 
 /// Dynamics conditions from a brief.
@@ -540,6 +629,9 @@ pub fn design(brief: &Brief) -> Result<Design, Infeasible> {
 
 /// Design the loop the brief asks for with a given family.
 pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
+    if family_for(brief, kind).size_from_ride() {
+        return crate::optimiser::force_first::design_profile(brief, kind);
+    }
     let fam = family(kind);
     let counter = AtomicUsize::new(0);
     let shape = search_shape(brief, fam.as_ref(), &counter);
@@ -566,13 +658,15 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
             &counter,
         ));
     }
-    Ok(Design {
+    let mut d = Design {
         brief: brief.clone(),
         shape_labels: fam.shape_labels().to_vec(),
         best,
         verification,
         evaluations: counter.load(Ordering::Relaxed),
-    })
+    };
+    d.assess_envelope(&EnvelopeTable::illustrative());
+    Ok(d)
 }
 
 fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {
@@ -665,29 +759,51 @@ fn explain_failed_checks(
     }
 }
 
-/// Lowest entry speed at which a loop of the brief's target height meets every limit, by bisection.
+/// The entry speed nearest the brief's at which a loop of its target height meets every limit.
+///
+/// Too slow a train cannot reach the top with enough load; too fast a one overloads the bottom, so
+/// the feasible speeds form a window that may lie on either side. A scan finds the feasible speed
+/// nearest the brief's, and bisection sharpens the window edge facing it.
 fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -> Option<f64> {
+    let Objective::Height { height_m } = brief.objective else {
+        return None;
+    };
     let ok = |v: f64| {
         let mut b = brief.clone();
         b.entry_speed_m_s = v;
         counter.fetch_add(1, Ordering::Relaxed);
         design_family_quiet(&b, kind)
     };
-    let (mut lo, mut hi) = (brief.entry_speed_m_s, brief.entry_speed_m_s);
-    for _ in 0..8 {
-        hi *= 1.3;
-        if ok(hi) {
-            break;
-        }
+    // Energy alone: below √(2gH) the train cannot climb H at all.
+    let v_lo = (2.0 * crate::units::STANDARD_GRAVITY_M_S2 * height_m).sqrt();
+    let v_hi = (2.0 * brief.entry_speed_m_s).max(1.5 * v_lo).min(150.0);
+    let n = 16;
+    let grid: Vec<f64> = (0..=n)
+        .map(|i| v_lo + (v_hi - v_lo) * i as f64 / n as f64)
+        .collect();
+    let feasible: Vec<bool> = grid.iter().map(|&v| ok(v)).collect();
+    let v0 = brief.entry_speed_m_s;
+    let best = (0..grid.len())
+        .filter(|&i| feasible[i])
+        .min_by(|&a, &b| (grid[a] - v0).abs().total_cmp(&(grid[b] - v0).abs()))?;
+    // The neighbour towards the brief's speed is infeasible (or the brief's own speed is).
+    let (mut good, mut bad) = if grid[best] > v0 {
+        (grid[best], if best > 0 { grid[best - 1] } else { v0 })
+    } else {
+        (
+            grid[best],
+            if best + 1 < grid.len() {
+                grid[best + 1]
+            } else {
+                v0
+            },
+        )
+    };
+    for _ in 0..12 {
+        let mid = 0.5 * (good + bad);
+        if ok(mid) { good = mid } else { bad = mid }
     }
-    if !ok(hi) {
-        return None;
-    }
-    for _ in 0..20 {
-        let mid = 0.5 * (lo + hi);
-        if ok(mid) { hi = mid } else { lo = mid }
-    }
-    Some(hi)
+    Some(good)
 }
 
 /// Whether a height-objective brief is feasible, without building explanations (no recursion).

@@ -74,6 +74,16 @@ pub fn terminal_summary(d: &Design) -> String {
         format!("{:.2} s", s.time_in_loop_s),
     );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
+    // Force-first loops with losses leave above or below their entry (the way down is slower, so
+    // the same loads need a different curve); the other families always leave at entry height.
+    let exit_dz = exit_height_m(&d.best.path);
+    if exit_dz.abs() > 1e-3 {
+        row(
+            &mut out,
+            "exit above entry (heartline)",
+            format!("{exit_dz:.3} m"),
+        );
+    }
     if !d.shape_labels.is_empty() {
         let p: Vec<String> = d
             .shape_labels
@@ -98,9 +108,174 @@ pub fn terminal_summary(d: &Design) -> String {
             l.limit_value
         ));
     }
+    out.push_str(&train_and_envelope(d));
     out.push_str(CAUTION);
     out.push('\n');
     out
+}
+
+/// Terminal lines for the lateral shift, the train's cars and the duration envelope.
+pub fn train_and_envelope(d: &Design) -> String {
+    let b = &d.brief;
+    let s = &d.verification.summary;
+    let mut out = String::new();
+    out.push_str(&format!(
+        "  {:<34} {:.2} m (exit beside entry); peak roll of the rider {:.2} deg\n",
+        "lateral shift", b.lateral_shift_m, s.peak_roll_deg
+    ));
+    let cars = &d.verification.cars;
+    if cars.len() > 1 {
+        out.push_str(&format!(
+            "  train: {} cars at {:.2} m pitch ({:.2} m front to rear); limits apply to the worst car\n",
+            cars.len(),
+            b.car_pitch_m,
+            d.verification.train.train.length_m()
+        ));
+        let mid = d.verification.train.train.middle();
+        for (label, j) in [("front", 0), ("middle", mid), ("rear", cars.len() - 1)] {
+            let c = &cars[j];
+            out.push_str(&format!(
+                "    {label:<6} (car {j:>2}) peak {:.3} g, top {:.3} g at {:.2} m/s, peak lateral {:.3} g\n",
+                c.peak_normal_g, c.top_normal_g, c.top_speed_m_s, c.peak_lateral_g
+            ));
+        }
+    }
+    let Some(e) = &d.verification.envelope else {
+        out.push_str("  acceleration envelope: not assessed\n");
+        return out;
+    };
+    out.push_str(&format!(
+        "  acceleration envelope: {}{} — {}\n",
+        e.title,
+        if e.illustrative {
+            " [ILLUSTRATIVE values: verify against the governing standard]"
+        } else {
+            ""
+        },
+        if e.pass { "pass" } else { "FAIL" }
+    ));
+    for l in &e.levels {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_level(l)
+        ));
+    }
+    for o in &e.onsets {
+        out.push_str(&format!(
+            "    {}\n",
+            crate::checks::envelope::describe_onset(o)
+        ));
+    }
+    out
+}
+
+/// A short terminal table of a checked centreline: the fit, the key figures and the checks.
+pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String {
+    let (s, f, b) = (&c.summary, &c.fit, &c.brief);
+    let mut out = String::new();
+    let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
+    out.push_str(&format!("loopwright check: {} ({})\n", c.file, c.source));
+    row(
+        &mut out,
+        "points read as",
+        format!("{:?} ({} points)", f.points_are, f.points).to_lowercase(),
+    );
+    row(
+        &mut out,
+        "smoothing spline fit",
+        format!(
+            "RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS)",
+            f.rms_residual_m * 1e3,
+            f.max_residual_m * 1e3,
+            f.tolerance_m * 1e3
+        ),
+    );
+    row(
+        &mut out,
+        "plane",
+        format!(
+            "tilt {:.3}° from vertical, points within {:.3} m of it",
+            f.plane_tilt_deg, f.max_out_of_plane_m
+        ),
+    );
+    row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
+    row(
+        &mut out,
+        "loop height (heartline)",
+        format!("{:.2} m", s.loop_height_m),
+    );
+    row(
+        &mut out,
+        "loop height (rail)",
+        format!("{:.2} m", s.rail_height_m),
+    );
+    row(
+        &mut out,
+        "path length in loop (heartline)",
+        format!("{:.2} m", s.path_length_m),
+    );
+    row(
+        &mut out,
+        "smallest radius (heartline)",
+        format!("{:.2} m", s.min_radius_m),
+    );
+    row(
+        &mut out,
+        "peak normal load",
+        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+    );
+    row(
+        &mut out,
+        "least normal load",
+        format!("{:.3} g", s.min_normal_g),
+    );
+    row(
+        &mut out,
+        "normal load at the top",
+        format!("{:.3} g", s.top_normal_g),
+    );
+    row(
+        &mut out,
+        "speed at the top",
+        describe_speed(s.top_speed_m_s),
+    );
+    row(
+        &mut out,
+        "peak onset",
+        format!("{:.2} g/s", s.peak_onset_g_s),
+    );
+    row(
+        &mut out,
+        "peak lateral load",
+        format!("{:.3} g", s.peak_lateral_g),
+    );
+    row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
+    out.push_str("  checks:\n");
+    for l in &c.verdict.lines {
+        let value = if l.value.is_finite() {
+            format!("{:.3}", l.value)
+        } else {
+            "unbounded".into()
+        };
+        out.push_str(&format!(
+            "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
+            if l.pass { "ok" } else { "FAIL" },
+            l.label,
+            l.unit,
+            l.limit_value
+        ));
+    }
+    out.push_str(CAUTION);
+    out.push('\n');
+    out
+}
+
+/// Heartline height of the end of the path above its start, m.
+pub fn exit_height_m(path: &crate::geometry::Centreline) -> f64 {
+    match (path.stations.first(), path.stations.last()) {
+        (Some(a), Some(b)) => b.heartline_m.z - a.heartline_m.z,
+        _ => 0.0,
+    }
 }
 
 /// The message for an infeasible brief.

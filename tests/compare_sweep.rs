@@ -10,13 +10,13 @@ use loopwright::report::CAUTION;
 use loopwright::sweep::{self, Shard, SweepInput, SweepSpec, parse_axis, parse_speed_axis};
 use loopwright::units::STANDARD_GRAVITY_M_S2 as G;
 
-/// The demo brief without losses or onset limit, so the circle's closed form applies; a coarser
-/// spacing keeps the suite fast without touching the closed-form checks (the circle's loads are
-/// exact at any spacing).
+/// The demo brief without losses, onset limit or lateral shift (a planar loop), so the circle's
+/// closed form applies; a coarser spacing keeps the suite fast without touching the closed-form
+/// checks (the circle's loads are exact at any spacing).
 fn lossless_input(max_g: f64) -> BriefInput {
     let text = format!(
         "name = \"study\"\nentry_speed = 25.0\nmax_g = {max_g}\nmin_top_g = 0.2\nrolling_resistance = 0.0\n\
-         drag_area_m2 = 0.0\nspacing_m = 0.1\n"
+         drag_area_m2 = 0.0\nspacing_m = 0.1\nlateral_shift_m = 0.0\n"
     );
     BriefInput::from_toml(&text).unwrap()
 }
@@ -359,7 +359,7 @@ fn command_line_sweep_merge_and_compare_write_their_files() {
     let brief = dir.path().join("study.toml");
     std::fs::write(
         &brief,
-        "name = \"cli\"\nrolling_resistance = 0.0\ndrag_area_m2 = 0.0\nspacing_m = 0.1\n\
+        "name = \"cli\"\nrolling_resistance = 0.0\ndrag_area_m2 = 0.0\nspacing_m = 0.1\nlateral_shift_m = 0.0\n\
          [sweep]\nentry_speed = \"24..26:2\"\nmax_g = 6.5\nshapes = [\"circle\"]\n",
     )
     .unwrap();

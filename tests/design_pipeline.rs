@@ -12,6 +12,8 @@ fn lossless(mut b: Brief) -> Brief {
     b.rolling_resistance = 0.0;
     b.drag_area_m2 = 0.0;
     b.max_onset_g_s = None;
+    // The closed forms below are for the planar loop.
+    b.lateral_shift_m = 0.0;
     b
 }
 
@@ -136,4 +138,23 @@ fn circle_with_losses_matches_brute_force_rk4() {
     }
     let got = ride.points.last().unwrap().speed_m_s;
     assert!((got - u.sqrt()).abs() < 1e-4, "{got} vs {}", u.sqrt());
+}
+
+/// An infeasible height names the nearest entry speed that works. For a lossless circle of R = H/2,
+/// bottom load 1 + v²/(gR) ≤ max_g gives v ≤ √((max_g − 1)·g·R) (closed form above); at 25 m/s,
+/// H = 20 m and max_g = 7 g the nearest feasible speed is that upper edge, √(6·g·10) = 24.257 m/s.
+#[test]
+fn infeasible_height_suggests_the_closed_form_entry_speed() {
+    let mut b = lossless(Brief::demo());
+    b.max_g = 7.0;
+    b.objective = Objective::Height { height_m: 20.0 };
+    let err = design_family(&b, ShapeKind::Circle).unwrap_err();
+    let v = err
+        .nearest
+        .iter()
+        .find(|n| n.field == "entry_speed")
+        .expect("suggests a speed")
+        .value;
+    let expect = (6.0 * G * 10.0f64).sqrt();
+    assert!((v - expect).abs() < 5e-3, "{v} vs {expect}");
 }

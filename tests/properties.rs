@@ -68,6 +68,8 @@ fn brief(v: f64, max_g: f64, min_top: f64, shape: ShapeKind, lossy: bool) -> Bri
         rolling_resistance: Some(if lossy { 0.02 } else { 0.0 }),
         drag_area_m2: Some(if lossy { 1.2 } else { 0.0 }),
         spacing_m: Some(0.1),
+        // The re-simulation here is of the planar loop.
+        lateral_shift_m: Some(0.0),
         ..Default::default()
     };
     input.resolve().unwrap()

@@ -4,7 +4,8 @@ use serde::Serialize;
 
 use super::ExportError;
 use crate::brief::Brief;
-use crate::checks::CheckLine;
+use crate::checks::envelope::EnvelopeReport;
+use crate::checks::{CarSummary, CheckLine};
 use crate::dynamics::LoadStep;
 use crate::optimiser::Design;
 use crate::report::CAUTION;
@@ -31,12 +32,23 @@ pub struct Report<'a> {
     pub max_load_step_g: f64,
     pub load_steps: &'a [LoadStep],
     pub exit_speed_m_s: f64,
+    /// Heartline exit above entry, m (non-zero only for force-first loops with losses).
+    pub exit_height_m: f64,
     pub time_in_loop_s: f64,
     pub shape_parameters: Vec<(&'static str, f64)>,
     pub checks: &'a [CheckLine],
     pub verified_at_spacing_m: f64,
     pub evaluations: usize,
     pub brief: &'a Brief,
+    /// Sideways spread of the loop, m, and the largest roll of the rider's cross-axis, degrees.
+    pub lateral_shift_m: f64,
+    pub peak_roll_deg: f64,
+    pub cars: usize,
+    pub car_pitch_m: f64,
+    /// Every car's figures (front first), from the verification run.
+    pub per_car: &'a [CarSummary],
+    /// The duration-based envelope check, level by level (null if not assessed).
+    pub envelope: Option<&'a EnvelopeReport>,
 }
 
 /// Build the report of a design.
@@ -62,6 +74,7 @@ pub fn report(d: &Design) -> Report<'_> {
         max_load_step_g: s.max_load_step_g,
         load_steps: &d.best.ride.steps,
         exit_speed_m_s: s.exit_speed_m_s,
+        exit_height_m: crate::report::exit_height_m(&d.best.path),
         time_in_loop_s: s.time_in_loop_s,
         shape_parameters: d
             .shape_labels
@@ -73,6 +86,12 @@ pub fn report(d: &Design) -> Report<'_> {
         verified_at_spacing_m: d.verification.spacing_m,
         evaluations: d.evaluations,
         brief: &d.brief,
+        lateral_shift_m: d.brief.lateral_shift_m,
+        peak_roll_deg: d.verification.summary.peak_roll_deg,
+        cars: d.brief.cars,
+        car_pitch_m: d.brief.car_pitch_m,
+        per_car: &d.verification.cars,
+        envelope: d.verification.envelope.as_ref(),
     }
 }
 

@@ -8,12 +8,15 @@
 //! - `<name>.svg`: elevation drawing ([`svg`]);
 //! - `<name>-loads.svg`: loads against arc length with the limits ([`plot`]);
 //! - `<name>-loads.csv`: one row per station ([`table`]);
+//! - `<name>-cars.csv`: one row per car per station, for trains of two or more cars ([`table::cars_csv`]);
 //! - `<name>.json`: the report ([`json`]).
 //!
 //! Studies: `<name>-compare.{csv,json}` and `<name>-sweep.csv` ([`study`]); the compare overlays
 //! `<name>-compare-elevation.svg`, `<name>-compare-loads.svg` and the sweep summary
 //! `<name>-sweep.svg` ([`overlay`]).
+//! A `check` run writes `<name>-check.json` and `<name>-check-loads.csv` ([`check`]).
 
+pub mod check;
 pub mod dxf;
 pub mod json;
 pub mod overlay;
@@ -101,7 +104,7 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError>
 /// of it could be produced.
 pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportError> {
     let name = &design.brief.name;
-    Ok(vec![
+    let mut files = vec![
         (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
         (
             format!("{name}.svg"),
@@ -113,7 +116,30 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
         ),
         (format!("{name}-loads.csv"), table::loads_csv(design)?),
         (format!("{name}.json"), json::report_json(design)?),
-    ])
+    ];
+    // One car is the point mass: its loads are the loads table already.
+    if design.best.train.cars.len() > 1 {
+        files.push((format!("{name}-cars.csv"), table::cars_csv(design)?));
+    }
+    Ok(files)
+}
+
+/// Write already-encoded files into `out_dir` (created if missing), each atomically.
+pub fn write_files(
+    files: Vec<(String, Vec<u8>)>,
+    out_dir: &Path,
+) -> Result<Vec<PathBuf>, ExportError> {
+    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
+        path: out_dir.to_path_buf(),
+        source,
+    })?;
+    let mut written = Vec::new();
+    for (name, bytes) in files {
+        let path = out_dir.join(name);
+        write_atomic(&path, &bytes)?;
+        written.push(path);
+    }
+    Ok(written)
 }
 
 /// Encode and write every output of a design into `out_dir` (created if missing).

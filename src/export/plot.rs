@@ -36,6 +36,10 @@ pub mod colour {
     pub const LOOP_SPAN: &str = "#e8eef6";
     /// Grid lines.
     pub const GRID: &str = "#dddddd";
+    /// Duration-envelope levels (a muted brown, apart from the hard limits' red).
+    pub const ENVELOPE: &str = "#8d6e63";
+    /// Shading of a run that exceeds an envelope level for too long.
+    pub const ENVELOPE_FAIL: &str = "#f6d5d5";
     /// Text, axes and dimensions.
     pub const INK: &str = "#222222";
     /// Secondary text (caution, notes).
@@ -650,6 +654,7 @@ pub fn loads_svg(design: &Design) -> String {
         );
     }
 
+    doc = doc.add(envelope_layer(design, &chart, x_range));
     doc = doc.add(
         chart
             .series(&tangential, colour::TANGENTIAL, 2.0, None)
@@ -687,6 +692,9 @@ pub fn loads_svg(design: &Design) -> String {
         entries.push(("lateral g", colour::LATERAL, Some("2 3")));
     }
     entries.push(("limits", colour::LIMIT, Some("8 5")));
+    if design.verification.envelope.is_some() {
+        entries.push(("envelope (normal)", colour::ENVELOPE, Some("3 4")));
+    }
     doc = doc.add(legend(820.0, chart.top + 10.0, &entries));
     let legend_end = chart.top + 10.0 + 20.0 * entries.len() as f64;
     let band_y = legend_end + 8.0;
@@ -704,6 +712,68 @@ pub fn loads_svg(design: &Design) -> String {
 
     let (caution, _) = caution_block(80.0, 560.0, 125);
     doc.add(caution).to_string()
+}
+
+/// The duration envelope on the normal axis: each level inside the plotted range as a thin dotted
+/// line labelled with how long it may be exceeded, and every failing level's worst run (any axis)
+/// shaded, so a reader sees where the ride stays beyond a level too long.
+fn envelope_layer(design: &Design, chart: &Chart, x_range: (f64, f64)) -> Group {
+    use crate::checks::envelope::Axis;
+    let mut g = Group::new().set("id", "envelope");
+    let Some(env) = &design.verification.envelope else {
+        return g;
+    };
+    let (lo, hi) = chart.y_range;
+    for line in env.plot_lines() {
+        if let Some((a, b)) = line.run_s_m
+            && !line.pass
+        {
+            g = g.add(
+                chart
+                    .band_x(a, b, colour::ENVELOPE_FAIL)
+                    .set("class", "envelope-fail"),
+            );
+        }
+        if line.axis != Axis::Normal || !(lo..=hi).contains(&line.level_g) {
+            continue;
+        }
+        let how_long = if line.allowed_s == 0.0 {
+            "0 s".to_string()
+        } else {
+            format!("{} s", fmt_num(line.allowed_s, 1))
+        };
+        let yy = chart.py(line.level_g);
+        g = g
+            .add(
+                Line::new()
+                    .set("x1", px(chart.px(x_range.0)))
+                    .set("y1", px(yy))
+                    .set("x2", px(chart.px(x_range.1)))
+                    .set("y2", px(yy))
+                    .set(
+                        "stroke",
+                        if line.pass {
+                            colour::ENVELOPE
+                        } else {
+                            colour::LIMIT
+                        },
+                    )
+                    .set("stroke-width", 1)
+                    .set("stroke-dasharray", "3 4")
+                    .set("class", "envelope-level"),
+            )
+            .add(
+                text(
+                    chart.px(x_range.0) + 4.0,
+                    yy - 4.0,
+                    &format!("{} g for ≤ {how_long}", fmt_num(line.level_g, 1)),
+                    10.0,
+                    "start",
+                )
+                .set("fill", colour::ENVELOPE),
+            );
+    }
+    g
 }
 
 #[cfg(test)]

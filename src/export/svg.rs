@@ -446,6 +446,8 @@ pub(crate) mod tests {
         brief.shape = ShapeKind::Circle;
         brief.rolling_resistance = 0.0;
         brief.drag_area_m2 = 0.0;
+        // Closed forms of the planar circle.
+        brief.lateral_shift_m = 0.0;
         let best =
             evaluate(&brief, ShapeKind::Circle, &[], radius_m, 0.05).expect("circle evaluates");
         Design {

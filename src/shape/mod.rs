@@ -20,10 +20,12 @@
 
 mod circle;
 mod clothoid;
+mod profile;
 mod spline;
 
 pub use circle::Circle;
 pub use clothoid::Clothoid;
+pub use profile::{Profile, RideContext, SolvedProfile, TargetLoad};
 pub use spline::Spline;
 
 use crate::brief::ShapeKind;
@@ -252,6 +254,12 @@ pub trait ShapeFamily: Send + Sync {
     fn shape_bounds(&self) -> &'static [(f64, f64)];
     /// A sensible starting shape for the optimiser.
     fn default_shape(&self) -> Vec<f64>;
+    /// Whether the size follows from the ride (entry speed and losses) instead of `top_radius_m`.
+    /// Such families (force-first `profile`) ignore the size argument; the optimiser does not
+    /// search a size for them.
+    fn size_from_ride(&self) -> bool {
+        false
+    }
     /// The loop proper (without lead track) for these parameters at this top radius.
     fn loop_segments(
         &self,
@@ -311,6 +319,8 @@ pub fn family(kind: ShapeKind) -> Box<dyn ShapeFamily> {
         ShapeKind::Circle => Box::new(Circle),
         ShapeKind::Clothoid => Box::new(Clothoid),
         ShapeKind::Spline => Box::new(Spline),
+        // The demo target at the default speed; a brief's own comes from `Profile::new`.
+        ShapeKind::Profile => Box::new(Profile::default()),
     }
 }
 
