@@ -194,8 +194,8 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
         &mut out,
         "plane",
         format!(
-            "tilt {:.3}° from vertical, points within {:.3} m of it",
-            f.plane_tilt_deg, f.max_out_of_plane_m
+            "tilt {:.3}° from vertical; lateral spread {:.3} m across it",
+            f.plane_tilt_deg, f.lateral_extent_m
         ),
     );
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
