@@ -305,9 +305,15 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
         .map(|f| read_limits_file(Path::new(f)))
         .transpose()?;
     let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
-    let envelope = d
-        .assess_envelope(table.as_ref().unwrap_or(&EnvelopeTable::illustrative()))
-        .clone();
+    // The design already carries the built-in table's assessment; a user's table replaces it.
+    let envelope = match &table {
+        Some(t) => d.assess_envelope(t).clone(),
+        None => d
+            .verification
+            .envelope
+            .clone()
+            .unwrap_or_else(|| d.assess_envelope(&EnvelopeTable::illustrative()).clone()),
+    };
     // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
     if table.is_some() && !envelope.pass {
         let mut reasons = vec![format!(

@@ -264,6 +264,24 @@ pub fn simulate_train(
     cond: &Conditions,
     train: &Train,
 ) -> Result<TrainRide, Stall> {
+    // A one-car chain is the point mass (the general integration below reproduces it exactly, see
+    // `simulate_chain` and its test); the point-mass code is several times cheaper, and the
+    // optimiser calls this hundreds of times per design.
+    if train.cars <= 1 {
+        return Ok(TrainRide {
+            train: *train,
+            cars: vec![simulate(path, cond)?],
+        });
+    }
+    simulate_chain(path, cond, train)
+}
+
+/// The rigid-chain integration behind [`simulate_train`] for any number of cars, one included.
+pub fn simulate_chain(
+    path: &Centreline,
+    cond: &Conditions,
+    train: &Train,
+) -> Result<TrainRide, Stall> {
     let st = &path.stations;
     let n = st.len();
     let cars = train.cars.max(1);

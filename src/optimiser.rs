@@ -42,7 +42,9 @@ use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
 const SEARCH_MARGIN: f64 = 1e-4;
 /// Coarse search sampling: stations per top radius.
-const COARSE_STATIONS_PER_RADIUS: f64 = 24.0;
+const COARSE_STATIONS_PER_RADIUS: f64 = 16.0;
+/// Intervals of the first scan over a one-parameter shape family, before Brent refines the best.
+const SCAN: usize = 4;
 
 /// One fully evaluated loop.
 #[derive(Debug, Clone)]
@@ -141,6 +143,27 @@ pub fn evaluate(
     top_radius_m: f64,
     spacing_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
+    evaluate_shifted(
+        brief,
+        kind,
+        shape,
+        top_radius_m,
+        spacing_m,
+        brief.lateral_shift_m,
+    )
+}
+
+/// As [`evaluate`], with the lateral shift given explicitly. The coarse search runs planar (the
+/// shift moves loads by about a thousandth of a g and costs as much as the rest of the geometry);
+/// the polish and the verification use the brief's shift, so what is reported is exact.
+pub fn evaluate_shifted(
+    brief: &Brief,
+    kind: ShapeKind,
+    shape: &[f64],
+    top_radius_m: f64,
+    spacing_m: f64,
+    lateral_shift_m: f64,
+) -> Result<Evaluation, EvalFailure> {
     if kind == ShapeKind::Profile && brief.profile.is_none() {
         return Err(EvalFailure::Shape(
             "the profile family needs a [profile] table in the brief".into(),
@@ -154,7 +177,7 @@ pub fn evaluate(
         &profile,
         brief.heartline_height_m,
         spacing_m,
-        brief.lateral_shift_m,
+        lateral_shift_m,
     );
     // A force-first loop's size comes from the ride: report the top radius it actually has.
     let top_radius_m = if fam.size_from_ride() {
@@ -300,7 +323,12 @@ impl SizeMargin<'_> {
     fn eval(&self, ln_r: f64) -> Result<Evaluation, EvalFailure> {
         self.counter.fetch_add(1, Ordering::Relaxed);
         let r = ln_r.exp();
-        evaluate(self.brief, self.kind, self.shape, r, self.spacing(r))
+        let shift = if self.fine {
+            self.brief.lateral_shift_m
+        } else {
+            0.0
+        };
+        evaluate_shifted(self.brief, self.kind, self.shape, r, self.spacing(r), shift)
     }
 }
 
@@ -414,6 +442,51 @@ pub fn size_range(
     } else {
         SizeRange::Gap { lo_m: lo, hi_m: hi }
     }
+}
+
+/// The upper size bound at full fidelity, found near the coarse one: the coarse search's bound is
+/// within a fraction of a percent, so a bracket of ±2 % around it replaces the full radius grid at
+/// the brief's spacing. `None` when the coarse range is not feasible or the bracket does not hold
+/// the sign change (the caller then runs the full search, which also explains infeasibility).
+fn polish_upper(
+    brief: &Brief,
+    kind: ShapeKind,
+    shape: &[f64],
+    counter: &AtomicUsize,
+) -> Option<f64> {
+    let SizeRange::Feasible { hi_m, .. } = size_range(brief, kind, shape, false, counter) else {
+        return None;
+    };
+    let fine = SizeMargin {
+        brief,
+        kind,
+        shape,
+        side: Side::Upper,
+        fine: true,
+        counter,
+    };
+    let margin = |x: f64| side_margin(brief, &fine.eval(x), Side::Upper);
+    // Try a tight bracket first (the planar, coarse bound is usually within a few tenths of a
+    // percent), then a wider one.
+    let (a, b) = [0.003, 0.02].into_iter().find_map(|w: f64| {
+        let (a, b) = ((hi_m * (1.0 - w)).ln(), (hi_m * (1.0 + w)).ln());
+        (margin(a) >= 0.0 && margin(b) < 0.0).then_some((a, b))
+    })?;
+    let r = brent_root(
+        SizeMargin {
+            brief,
+            kind,
+            shape,
+            side: Side::Upper,
+            fine: true,
+            counter,
+        },
+        a,
+        b,
+    )
+    .exp();
+    // The lower-side limits must hold there too; otherwise let the full search decide and explain.
+    (side_margin(brief, &fine.eval(r.ln()), Side::Lower) >= 0.0).then_some(r)
 }
 
 /// Smallest `i < n` with `pred(i)`, for a predicate false then true along `0..n`; `None` if never true.
@@ -575,7 +648,9 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
         1 => {
             let (lo, hi) = bounds[0];
             // A coarse scan first: the cost may have plateaus (height capped) where Brent alone wanders.
-            let scan: Vec<f64> = (0..=8).map(|i| lo + (hi - lo) * i as f64 / 8.0).collect();
+            let scan: Vec<f64> = (0..=SCAN)
+                .map(|i| lo + (hi - lo) * i as f64 / SCAN as f64)
+                .collect();
             let best = scan
                 .iter()
                 .copied()
@@ -585,11 +660,23 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
                         .total_cmp(&problem.shape_cost(&[*b]))
                 })
                 .unwrap_or(lo);
-            let step = (hi - lo) / 8.0;
+            let step = (hi - lo) / SCAN as f64;
+            // An optimum on a bound (common: the pointiest teardrop is the tallest) is confirmed by
+            // one probe just inside it; Brent would otherwise creep towards the bound in golden steps.
+            if best == lo || best == hi {
+                let inside = if best == lo {
+                    lo + 1e-3 * (hi - lo)
+                } else {
+                    hi - 1e-3 * (hi - lo)
+                };
+                if problem.shape_cost(&[best]) <= problem.shape_cost(&[inside]) {
+                    return vec![best];
+                }
+            }
             let (a, b) = ((best - step).max(lo), (best + step).min(hi));
-            let solver = BrentOpt::new(a, b).set_tolerance(1e-5, 1e-5);
+            let solver = BrentOpt::new(a, b).set_tolerance(1e-3, 1e-4);
             let found = Executor::new(ShapeCost1(&problem), solver)
-                .configure(|s| s.max_iters(30))
+                .configure(|s| s.max_iters(20))
                 .run()
                 .ok()
                 .and_then(|r| r.state().get_best_param().copied())
@@ -636,9 +723,12 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
     let counter = AtomicUsize::new(0);
     let shape = search_shape(brief, fam.as_ref(), &counter);
     let r = match brief.objective {
-        Objective::Tallest => match size_range(brief, kind, &shape, true, &counter) {
-            SizeRange::Feasible { hi_m, .. } => hi_m,
-            other => return Err(explain_tallest(brief, kind, &shape, other, &counter)),
+        Objective::Tallest => match polish_upper(brief, kind, &shape, &counter) {
+            Some(r) => r,
+            None => match size_range(brief, kind, &shape, true, &counter) {
+                SizeRange::Feasible { hi_m, .. } => hi_m,
+                other => return Err(explain_tallest(brief, kind, &shape, other, &counter)),
+            },
         },
         Objective::Height { height_m } => {
             height_m

@@ -5,7 +5,7 @@ mod common;
 
 use loopwright::brief::{Brief, BriefInput, ShapeKind};
 use loopwright::checks::envelope::{Axis, Bound, EnvelopeTable, evaluate};
-use loopwright::dynamics::{Conditions, Train, simulate, simulate_train};
+use loopwright::dynamics::{Conditions, Train, simulate, simulate_chain, simulate_train};
 use loopwright::geometry::Centreline;
 use loopwright::optimiser::design_family;
 use loopwright::shape::family;
@@ -34,7 +34,8 @@ fn one_car_train_is_the_point_mass_exactly() {
             .unwrap();
         let path = Centreline::build_shifted(&p, 1.1, 0.05, 2.5);
         let point = simulate(&path, &cond).unwrap();
-        let train = simulate_train(
+        // The general chain integration (simulate_train short-cuts one car to the point mass).
+        let train = simulate_chain(
             &path,
             &cond,
             &Train {

@@ -104,18 +104,25 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError>
 /// of it could be produced.
 pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportError> {
     let name = &design.brief.name;
+    // The DXF takes as long as all the rest together; encode it on another core meanwhile.
+    let (dxf_bytes, rest) = rayon::join(
+        || dxf::dxf_bytes(design),
+        || -> Result<_, ExportError> {
+            Ok((
+                svg::elevation_svg(design).into_bytes(),
+                plot::loads_svg(design).into_bytes(),
+                table::loads_csv(design)?,
+                json::report_json(design)?,
+            ))
+        },
+    );
+    let (elevation, loads_plot, csv_bytes, json_bytes) = rest?;
     let mut files = vec![
-        (format!("{name}.dxf"), dxf::dxf_bytes(design)?),
-        (
-            format!("{name}.svg"),
-            svg::elevation_svg(design).into_bytes(),
-        ),
-        (
-            format!("{name}-loads.svg"),
-            plot::loads_svg(design).into_bytes(),
-        ),
-        (format!("{name}-loads.csv"), table::loads_csv(design)?),
-        (format!("{name}.json"), json::report_json(design)?),
+        (format!("{name}.dxf"), dxf_bytes?),
+        (format!("{name}.svg"), elevation),
+        (format!("{name}-loads.svg"), loads_plot),
+        (format!("{name}-loads.csv"), csv_bytes),
+        (format!("{name}.json"), json_bytes),
     ];
     // One car is the point mass: its loads are the loads table already.
     if design.best.train.cars.len() > 1 {
