@@ -1,5 +1,5 @@
-//! Regenerate the study pictures in `gallery/`: the compare overlays of the demo brief and a sweep
-//! summary. Run from the repository root:
+//! Regenerate every picture in `gallery/`: the demo design's elevation and loads plot, the compare
+//! overlays of the demo brief and a sweep summary. Run from the repository root:
 //!
 //! ```sh
 //! cargo run --release --example gallery
@@ -12,7 +12,8 @@ use std::path::Path;
 
 use loopwright::brief::{BriefInput, DEMO_BRIEF_TOML, ShapeKind};
 use loopwright::compare::compare;
-use loopwright::export::{overlay, write_all_atomic};
+use loopwright::export::{overlay, plot, svg, write_all_atomic};
+use loopwright::optimiser::design;
 use loopwright::sweep::{self, AxisText, SweepInput, SweepSpec};
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
@@ -37,7 +38,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let spec = SweepSpec::new(sweep_input, &grid)?;
     let rows = sweep::run(&spec, None, &|| {});
 
+    let demo = design(&brief)?;
     let files = vec![
+        (dir.join("copperwing.svg"), svg::elevation_svg(&demo).into_bytes()),
+        (dir.join("copperwing-loads.svg"), plot::loads_svg(&demo).into_bytes()),
         (
             dir.join("copperwing-compare-elevation.svg"),
             overlay::elevation_overlay_svg(&c).into_bytes(),
