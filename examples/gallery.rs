@@ -40,8 +40,14 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
 
     let demo = design(&brief)?;
     let files = vec![
-        (dir.join("copperwing.svg"), svg::elevation_svg(&demo).into_bytes()),
-        (dir.join("copperwing-loads.svg"), plot::loads_svg(&demo).into_bytes()),
+        (
+            dir.join("copperwing.svg"),
+            svg::elevation_svg(&demo).into_bytes(),
+        ),
+        (
+            dir.join("copperwing-loads.svg"),
+            plot::loads_svg(&demo).into_bytes(),
+        ),
         (
             dir.join("copperwing-compare-elevation.svg"),
             overlay::elevation_overlay_svg(&c).into_bytes(),

@@ -43,6 +43,8 @@ use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
 const SEARCH_MARGIN: f64 = 1e-4;
 /// Coarse search sampling: stations per top radius.
 const COARSE_STATIONS_PER_RADIUS: f64 = 16.0;
+/// Relative room a shape's coarse size window must have to count as feasible (see `shape_cost`).
+const SIZE_SLACK: f64 = 0.005;
 /// Intervals of the first scan over a one-parameter shape family, before Brent refines the best.
 const SCAN: usize = 4;
 
@@ -291,11 +293,17 @@ fn side_margin(brief: &Brief, eval: &Result<Evaluation, EvalFailure>, side: Side
         }
         (Ok(e), Side::Lower) => {
             let s = &e.summary;
-            let mut m = (brief.max_g - s.peak_normal_g).min(s.min_radius_m - brief.min_radius_m);
+            // The profile's own smallest radius is exact whatever the sampling (a coarse sampling
+            // can step over the tightest point of a spline); the sampled one also sees the shift.
+            let radius_m = s.min_radius_m.min(e.profile.min_radius_m());
+            let mut m = (brief.max_g - s.peak_normal_g).min(radius_m - brief.min_radius_m);
             if let Some(o) = brief.max_onset_g_s {
                 // An unbounded onset (curvature step) can never pass; give it a finite, clearly
                 // negative margin so the root finder still sees a sign.
-                m = m.min((o - onset_for_limit(s)).max(-1e3));
+                // Onset comes from differences of the load, so it moves more than the loads
+                // themselves when the sampling is refined: keep 0.5 % of the limit in hand so the
+                // verification at a quarter of the spacing cannot tip it over.
+                m = m.min((0.995 * o - onset_for_limit(s)).max(-1e3));
             }
             m - SEARCH_MARGIN
         }
@@ -529,16 +537,25 @@ impl ShapeCost<'_> {
         match self.brief.objective {
             Objective::Tallest => {
                 match size_range(self.brief, self.kind, shape, false, self.counter) {
+                    // The coarse search is planar and coarse; at full fidelity the size window
+                    // moves by a few tenths of a percent (the shift lowers the top load a little).
+                    // A shape counts as feasible only with SIZE_SLACK of window to spare, so the
+                    // search does not settle in a corner where two limits meet and the full model
+                    // then finds no size at all.
+                    SizeRange::Feasible { lo_m, hi_m } if hi_m < lo_m * (1.0 + SIZE_SLACK) => {
+                        1e3 + (lo_m * (1.0 + SIZE_SLACK) / hi_m).ln()
+                    }
                     SizeRange::Feasible { hi_m, .. } => {
                         let h = height_per_radius(self.kind, shape).unwrap_or(0.0) * hi_m;
                         let h = self.brief.max_height_m.map_or(h, |m| h.min(m));
                         // Among equally tall loops (height capped), prefer the lower peak load.
-                        let peak = match evaluate(
+                        let peak = match evaluate_shifted(
                             self.brief,
                             self.kind,
                             shape,
                             hi_m,
                             self.brief.spacing_m.max(hi_m / COARSE_STATIONS_PER_RADIUS),
+                            0.0,
                         ) {
                             Ok(e) => e.summary.peak_normal_g,
                             Err(_) => 0.0,
@@ -727,6 +744,10 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
             Some(r) => r,
             None => match size_range(brief, kind, &shape, true, &counter) {
                 SizeRange::Feasible { hi_m, .. } => hi_m,
+                // The search can settle where two limits meet (say the top load and the smallest
+                // radius); the search margin then leaves a sliver of a gap. The midpoint may still
+                // meet every limit exactly: the checks below decide, at both samplings.
+                SizeRange::Gap { lo_m, hi_m } if lo_m < hi_m * (1.0 + 1e-3) => 0.5 * (lo_m + hi_m),
                 other => return Err(explain_tallest(brief, kind, &shape, other, &counter)),
             },
         },

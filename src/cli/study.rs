@@ -296,8 +296,9 @@ pub fn run_merge(args: &MergeArgs) -> Result<String, CliError> {
     }
     write_atomic(&args.out, &merged)?;
     Ok(format!(
-        "merged {} shards into {}\n",
+        "merged {} shards into {}\n{}\n",
         args.shards.len(),
-        args.out.display()
+        args.out.display(),
+        crate::report::CAUTION
     ))
 }
