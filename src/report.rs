@@ -1,5 +1,6 @@
 //! Report: the caution every output carries and the terminal summary of a design.
 
+use crate::checks::{CheckLine, Summary};
 use crate::optimiser::{Design, Infeasible};
 use crate::units::describe_speed;
 
@@ -12,53 +13,9 @@ illustrative, not values from any standard.";
 pub fn terminal_summary(d: &Design) -> String {
     let s = &d.best.summary;
     let b = &d.brief;
-    let mut out = String::new();
-    let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
-    out.push_str(&format!(
-        "loopwright design: {} ({})\n",
-        b.title, d.best.kind
-    ));
+    let mut out = format!("loopwright design: {} ({})\n", b.title, d.best.kind);
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
-    row(
-        &mut out,
-        "loop height (heartline)",
-        format!("{:.2} m", s.loop_height_m),
-    );
-    row(
-        &mut out,
-        "loop height (rail)",
-        format!("{:.2} m", s.rail_height_m),
-    );
-    row(
-        &mut out,
-        "path length in loop (heartline)",
-        format!("{:.2} m", s.path_length_m),
-    );
-    row(
-        &mut out,
-        "top radius (heartline)",
-        format!("{:.2} m", d.best.top_radius_m),
-    );
-    row(
-        &mut out,
-        "smallest radius (heartline)",
-        format!("{:.2} m", s.min_radius_m),
-    );
-    row(
-        &mut out,
-        "peak normal load",
-        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
-    );
-    row(
-        &mut out,
-        "normal load at the top",
-        format!("{:.3} g", s.top_normal_g),
-    );
-    row(
-        &mut out,
-        "speed at the top",
-        describe_speed(s.top_speed_m_s),
-    );
+    figure_rows(&mut out, s, Some(d.best.top_radius_m));
     let onset = if s.max_load_step_g > 1e-9 {
         format!(
             "{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)",
@@ -94,20 +51,7 @@ pub fn terminal_summary(d: &Design) -> String {
         row(&mut out, "shape parameters", p.join(", "));
     }
     out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
-    for l in &d.verification.verdict.lines {
-        let value = if l.value.is_finite() {
-            format!("{:.3}", l.value)
-        } else {
-            "unbounded".into()
-        };
-        out.push_str(&format!(
-            "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
-            if l.pass { "ok" } else { "FAIL" },
-            l.label,
-            l.unit,
-            l.limit_value
-        ));
-    }
+    check_lines(&mut out, &d.verification.verdict.lines);
     out.push_str(&train_and_envelope(d));
     out.push_str(CAUTION);
     out.push('\n');
@@ -172,9 +116,7 @@ pub fn train_and_envelope(d: &Design) -> String {
 /// A short terminal table of a checked centreline: the fit, the key figures and the checks.
 pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String {
     let (s, f, b) = (&c.summary, &c.fit, &c.brief);
-    let mut out = String::new();
-    let row = |out: &mut String, k: &str, v: String| out.push_str(&format!("  {k:<34} {v}\n"));
-    out.push_str(&format!("loopwright check: {} ({})\n", c.file, c.source));
+    let mut out = format!("loopwright check: {} ({})\n", c.file, c.source);
     row(
         &mut out,
         "points read as",
@@ -199,46 +141,7 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
         ),
     );
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
-    row(
-        &mut out,
-        "loop height (heartline)",
-        format!("{:.2} m", s.loop_height_m),
-    );
-    row(
-        &mut out,
-        "loop height (rail)",
-        format!("{:.2} m", s.rail_height_m),
-    );
-    row(
-        &mut out,
-        "path length in loop (heartline)",
-        format!("{:.2} m", s.path_length_m),
-    );
-    row(
-        &mut out,
-        "smallest radius (heartline)",
-        format!("{:.2} m", s.min_radius_m),
-    );
-    row(
-        &mut out,
-        "peak normal load",
-        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
-    );
-    row(
-        &mut out,
-        "least normal load",
-        format!("{:.3} g", s.min_normal_g),
-    );
-    row(
-        &mut out,
-        "normal load at the top",
-        format!("{:.3} g", s.top_normal_g),
-    );
-    row(
-        &mut out,
-        "speed at the top",
-        describe_speed(s.top_speed_m_s),
-    );
+    figure_rows(&mut out, s, None);
     row(
         &mut out,
         "peak onset",
@@ -251,7 +154,67 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
     );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
     out.push_str("  checks:\n");
-    for l in &c.verdict.lines {
+    check_lines(&mut out, &c.verdict.lines);
+    out.push_str(CAUTION);
+    out.push('\n');
+    out
+}
+
+/// Heartline height of the end of the path above its start, m.
+pub fn exit_height_m(path: &crate::geometry::Centreline) -> f64 {
+    match (path.stations.first(), path.stations.last()) {
+        (Some(a), Some(b)) => b.heartline_m.z - a.heartline_m.z,
+        _ => 0.0,
+    }
+}
+
+/// One labelled row of a terminal table.
+fn row(out: &mut String, label: &str, value: String) {
+    out.push_str(&format!("  {label:<34} {value}\n"));
+}
+
+/// The figures `design` and `check` both report: size, radius and the loads at peak and top.
+fn figure_rows(out: &mut String, s: &Summary, top_radius_m: Option<f64>) {
+    row(
+        out,
+        "loop height (heartline)",
+        format!("{:.2} m", s.loop_height_m),
+    );
+    row(
+        out,
+        "loop height (rail)",
+        format!("{:.2} m", s.rail_height_m),
+    );
+    row(
+        out,
+        "path length in loop (heartline)",
+        format!("{:.2} m", s.path_length_m),
+    );
+    if let Some(r) = top_radius_m {
+        row(out, "top radius (heartline)", format!("{r:.2} m"));
+    }
+    row(
+        out,
+        "smallest radius (heartline)",
+        format!("{:.2} m", s.min_radius_m),
+    );
+    row(
+        out,
+        "peak normal load",
+        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+    );
+    row(out, "least normal load", format!("{:.3} g", s.min_normal_g));
+    row(
+        out,
+        "normal load at the top",
+        format!("{:.3} g", s.top_normal_g),
+    );
+    row(out, "speed at the top", describe_speed(s.top_speed_m_s));
+}
+
+/// The limit checks, one line each.
+fn check_lines(out: &mut String, lines: &[CheckLine]) {
+    for l in lines {
         let value = if l.value.is_finite() {
             format!("{:.3}", l.value)
         } else {
@@ -264,17 +227,6 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
             l.unit,
             l.limit_value
         ));
-    }
-    out.push_str(CAUTION);
-    out.push('\n');
-    out
-}
-
-/// Heartline height of the end of the path above its start, m.
-pub fn exit_height_m(path: &crate::geometry::Centreline) -> f64 {
-    match (path.stations.first(), path.stations.last()) {
-        (Some(a), Some(b)) => b.heartline_m.z - a.heartline_m.z,
-        _ => 0.0,
     }
 }
 
