@@ -13,7 +13,7 @@ use std::time::Instant;
 use super::{BriefArgs, CliError};
 use crate::brief::{BriefInput, DEMO_BRIEF_TOML, ShapeKind};
 use crate::compare::{compare, terminal_table};
-use crate::export::{ExportError, overlay, study, write_all_atomic, write_atomic};
+use crate::export::{ExportError, overlay, study, write_atomic};
 use crate::sweep::{self, AxisText, Shard, SweepInput, SweepSpec};
 
 #[derive(Debug, Clone, Args)]
@@ -77,19 +77,7 @@ pub struct MergeArgs {
 }
 
 fn write_files(out_dir: &Path, files: Vec<(String, Vec<u8>)>) -> Result<Vec<PathBuf>, CliError> {
-    std::fs::create_dir_all(out_dir).map_err(|source| {
-        CliError::from(ExportError::Io {
-            path: out_dir.to_path_buf(),
-            source,
-        })
-    })?;
-    let files: Vec<(PathBuf, Vec<u8>)> = files
-        .into_iter()
-        .map(|(n, b)| (out_dir.join(n), b))
-        .collect();
-    // All or nothing: a failed run leaves earlier outputs as they were.
-    write_all_atomic(&files)?;
-    Ok(files.into_iter().map(|(p, _)| p).collect())
+    Ok(crate::export::write_files(files, out_dir)?)
 }
 
 fn wrote(paths: &[PathBuf]) -> String {

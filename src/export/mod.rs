@@ -131,27 +131,12 @@ pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportErr
     Ok(files)
 }
 
-/// Write already-encoded files into `out_dir` (created if missing), each atomically.
+/// Write already-encoded files into `out_dir` (created if missing) as one atomic step
+/// ([`write_all_atomic`]): a failed run leaves every earlier output as it was.
 pub fn write_files(
     files: Vec<(String, Vec<u8>)>,
     out_dir: &Path,
 ) -> Result<Vec<PathBuf>, ExportError> {
-    std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
-        path: out_dir.to_path_buf(),
-        source,
-    })?;
-    let mut written = Vec::new();
-    for (name, bytes) in files {
-        let path = out_dir.join(name);
-        write_atomic(&path, &bytes)?;
-        written.push(path);
-    }
-    Ok(written)
-}
-
-/// Encode and write every output of a design into `out_dir` (created if missing).
-pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
-    let files = design_files(design)?;
     std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
         path: out_dir.to_path_buf(),
         source,
@@ -161,6 +146,10 @@ pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, Exp
         .map(|(n, b)| (out_dir.join(n), b))
         .collect();
     write_all_atomic(&files)?;
-    let written = files.into_iter().map(|(p, _)| p).collect();
-    Ok(written)
+    Ok(files.into_iter().map(|(p, _)| p).collect())
+}
+
+/// Encode and write every output of a design into `out_dir` (created if missing).
+pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
+    write_files(design_files(design)?, out_dir)
 }
