@@ -360,21 +360,8 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
         curves.push((e.kind, d.best.summary.loop_height_m, pts));
     }
     let frame = Frame::new(xr, zr, true);
-    let mut plot = Group::new();
-    let mut items = Vec::new();
-    for (kind, h, pts) in &curves {
-        plot = plot.add(frame.polyline(
-            pts.iter().map(|p| Some(*p)),
-            family_colour(*kind),
-            "none",
-            2.0,
-        ));
-        items.push(LegendItem {
-            colour: family_colour(*kind).into(),
-            dash: "none",
-            label: format!("{kind}: {h:.2} m tall"),
-        });
-    }
+    let (mut plot, items) =
+        family_curves(&frame, &curves, |kind, h| format!("{kind}: {h:.2} m tall"));
     plot = plot.add(
         Circle::new()
             .set("cx", px(frame.sx(0.0)))
@@ -402,6 +389,30 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
     )
 }
 
+/// One solid curve per family in its colour, and the legend entries labelled by `label(kind, figure)`.
+fn family_curves(
+    frame: &Frame,
+    curves: &[(ShapeKind, f64, Vec<(f64, f64)>)],
+    label: impl Fn(ShapeKind, f64) -> String,
+) -> (Group, Vec<LegendItem>) {
+    let mut plot = Group::new();
+    let mut items = Vec::new();
+    for (kind, figure, pts) in curves {
+        plot = plot.add(frame.polyline(
+            pts.iter().map(|p| Some(*p)),
+            family_colour(*kind),
+            "none",
+            2.0,
+        ));
+        items.push(LegendItem {
+            colour: family_colour(*kind).into(),
+            dash: "none",
+            label: label(*kind, *figure),
+        });
+    }
+    (plot, items)
+}
+
 /// Every family's normal load against arc length from loop entry, with the brief's limits.
 pub fn loads_overlay_svg(c: &Comparison) -> String {
     let b = &c.brief;
@@ -424,21 +435,9 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
         curves.push((e.kind, d.best.summary.peak_normal_g, pts));
     }
     let frame = Frame::new(sr, gr, false);
-    let mut plot = Group::new();
-    let mut items = Vec::new();
-    for (kind, peak, pts) in &curves {
-        plot = plot.add(frame.polyline(
-            pts.iter().map(|p| Some(*p)),
-            family_colour(*kind),
-            "none",
-            2.0,
-        ));
-        items.push(LegendItem {
-            colour: family_colour(*kind).into(),
-            dash: "none",
-            label: format!("{kind}: peak {peak:.2} g"),
-        });
-    }
+    let (mut plot, mut items) = family_curves(&frame, &curves, |kind, peak| {
+        format!("{kind}: peak {peak:.2} g")
+    });
     let limit = |g: f64, dash: &'static str| {
         frame.polyline([Some((sr.0, g)), Some((sr.1, g))], "#a00", dash, 1.5)
     };
