@@ -389,10 +389,13 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
     )
 }
 
+/// A family's curve for an overlay: the family, the figure its legend quotes, and the points.
+type FamilyCurve = (ShapeKind, f64, Vec<(f64, f64)>);
+
 /// One solid curve per family in its colour, and the legend entries labelled by `label(kind, figure)`.
 fn family_curves(
     frame: &Frame,
-    curves: &[(ShapeKind, f64, Vec<(f64, f64)>)],
+    curves: &[FamilyCurve],
     label: impl Fn(ShapeKind, f64) -> String,
 ) -> (Group, Vec<LegendItem>) {
     let mut plot = Group::new();
