@@ -870,6 +870,16 @@ fn explain_failed_checks(
     }
 }
 
+/// Bisection for the edge of a feasible region: `good` passes `ok`, `bad` fails it; after `iters`
+/// halvings the passing end nearest the edge is returned.
+fn bisect_edge(mut good: f64, mut bad: f64, iters: usize, mut ok: impl FnMut(f64) -> bool) -> f64 {
+    for _ in 0..iters {
+        let mid = 0.5 * (good + bad);
+        if ok(mid) { good = mid } else { bad = mid }
+    }
+    good
+}
+
 /// The entry speed nearest the brief's at which a loop of its target height meets every limit.
 ///
 /// Too slow a train cannot reach the top with enough load; too fast a one overloads the bottom, so
@@ -898,7 +908,7 @@ fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -
         .filter(|&i| feasible[i])
         .min_by(|&a, &b| (grid[a] - v0).abs().total_cmp(&(grid[b] - v0).abs()))?;
     // The neighbour towards the brief's speed is infeasible (or the brief's own speed is).
-    let (mut good, mut bad) = if grid[best] > v0 {
+    let (good, bad) = if grid[best] > v0 {
         (grid[best], if best > 0 { grid[best - 1] } else { v0 })
     } else {
         (
@@ -910,11 +920,7 @@ fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -
             },
         )
     };
-    for _ in 0..12 {
-        let mid = 0.5 * (good + bad);
-        if ok(mid) { good = mid } else { bad = mid }
-    }
-    Some(good)
+    Some(bisect_edge(good, bad, 12, ok))
 }
 
 /// Whether a height-objective brief is feasible, without building explanations (no recursion).
@@ -1003,15 +1009,11 @@ fn explain_tallest(
         )
     };
     if !matches!(range, SizeRange::LowerFailsEverywhere { .. }) && !ok(brief.entry_speed_m_s) {
-        let (mut lo, mut hi) = (brief.entry_speed_m_s, brief.entry_speed_m_s * 1.5);
+        let (lo, hi) = (brief.entry_speed_m_s, brief.entry_speed_m_s * 1.5);
         if ok(hi) {
-            for _ in 0..20 {
-                let mid = 0.5 * (lo + hi);
-                if ok(mid) { hi = mid } else { lo = mid }
-            }
             nearest.push(Nearest {
                 field: "entry_speed",
-                value: hi,
+                value: bisect_edge(hi, lo, 20, ok),
                 unit: "m/s",
             });
         }
