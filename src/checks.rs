@@ -10,7 +10,6 @@
 //!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
 
-pub mod centreline;
 pub mod envelope;
 
 use serde::Serialize;

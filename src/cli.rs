@@ -267,17 +267,46 @@ impl BriefArgs {
         }
     }
 
-    /// File (or demo) overlaid with flags, resolved and checked.
+    /// File (or demo) overlaid with flags, resolved and checked, with the limit table it names
+    /// read (so that every command enforces it).
     pub fn resolve(&self) -> Result<Brief, CliError> {
         let file = read_brief_file(self.brief.as_deref())?;
-        Ok(file.overlay(self.as_input()).resolve()?)
+        let mut brief = file.overlay(self.as_input()).resolve()?;
+        attach_limits_table(
+            &mut brief,
+            self.limits
+                .is_none()
+                .then_some(self.brief.as_deref())
+                .flatten(),
+        )?;
+        Ok(brief)
     }
+}
+
+/// Read the limit table a brief names into `brief.limits_table`. A relative `limits_file` written
+/// in a brief file is taken from that file's folder (`brief_file`); one given with `--limits`
+/// from the working directory (`brief_file` = `None`).
+pub fn attach_limits_table(brief: &mut Brief, brief_file: Option<&Path>) -> Result<(), CliError> {
+    let Some(name) = brief.limits_file.as_deref() else {
+        return Ok(());
+    };
+    let path = match brief_file.and_then(Path::parent) {
+        Some(dir) if Path::new(name).is_relative() => dir.join(name),
+        _ => PathBuf::from(name),
+    };
+    brief.limits_table = Some(read_limits_file(&path)?);
+    Ok(())
 }
 
 /// Read and check a duration-based limit table (`--limits` / `limits_file`).
 pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
-    let meta = std::fs::metadata(path)
-        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
+    // A missing table is a wrong argument (exit 2), like a missing brief field.
+    let meta = std::fs::metadata(path).map_err(|e| {
+        CliError::Usage(format!(
+            "cannot read limits file {}: {e}\nhint: check the path; a limits_file in a brief is taken from the brief's folder",
+            path.display()
+        ))
+    })?;
     if meta.len() > MAX_LIMITS_BYTES {
         return Err(CliError::Usage(format!(
             "limits file {} is {} bytes; a limit table is a small TOML file (at most {MAX_LIMITS_BYTES} bytes)",
@@ -298,36 +327,7 @@ pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
 /// Run `design`: returns the text for standard output.
 pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     let brief = args.brief.resolve()?;
-    // Read the limit table before the search, so a bad file fails fast.
-    let table = brief
-        .limits_file
-        .as_deref()
-        .map(|f| read_limits_file(Path::new(f)))
-        .transpose()?;
-    let mut d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
-    // The design already carries the built-in table's assessment; a user's table replaces it.
-    let envelope = match &table {
-        Some(t) => d.assess_envelope(t).clone(),
-        None => d
-            .verification
-            .envelope
-            .clone()
-            .unwrap_or_else(|| d.assess_envelope(&EnvelopeTable::illustrative()).clone()),
-    };
-    // A design failing a user's envelope is treated like an infeasible brief: nothing is written.
-    if table.is_some() && !envelope.pass {
-        let mut reasons = vec![format!(
-            "the best loop for the brief fails the acceleration envelope of {}",
-            brief.limits_file.as_deref().unwrap_or("the limits file")
-        )];
-        reasons.extend(envelope.failures());
-        reasons.push("run without --limits to write the design for inspection".into());
-        return Err(CliError::Infeasible(Box::new(Infeasible {
-            shape: d.best.kind,
-            reasons,
-            nearest: vec![],
-        })));
-    }
+    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
     let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());
@@ -343,17 +343,41 @@ pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
 /// Largest fitting tolerance accepted, m.
 const MAX_FIT_TOLERANCE_M: f64 = 0.5;
 
+/// Brief flags that describe how to design a loop, not a given centreline: `check` refuses them
+/// rather than dropping them silently.
+fn refuse_design_only_flags(b: &BriefArgs) -> Result<(), CliError> {
+    let given: Vec<&str> = [
+        ("--shape", b.shape.is_some()),
+        ("--height", b.height.is_some()),
+        ("--spacing", b.spacing.is_some()),
+        ("--lead-length", b.lead_length.is_some()),
+        ("--lateral-shift", b.lateral_shift.is_some()),
+    ]
+    .into_iter()
+    .filter_map(|(flag, set)| set.then_some(flag))
+    .collect();
+    if given.is_empty() {
+        return Ok(());
+    }
+    Err(CliError::Usage(format!(
+        "{} cannot apply to `check`: the centreline in the file fixes the shape, size, leads and sideways spread\n\
+         hint: drop the flag; `check` takes the entry speed, losses, heartline height, train and limits from the brief",
+        given.join(", ")
+    )))
+}
+
 /// Run `check`: returns the text for standard output.
 pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
-    use crate::checks::centreline::{CheckFailure, CheckOptions, check_centreline};
     use crate::geometry::fit::PointsAre;
     use crate::import::{ImportError, read_centreline};
+    use crate::model::{Curve, Drawing, EvalFailure, assess};
     let tol = args.fit_tolerance;
     if !(tol.is_finite() && tol > 0.0 && tol <= MAX_FIT_TOLERANCE_M) {
         return Err(CliError::Usage(format!(
             "--fit-tolerance {tol} m is out of range; allowed more than 0 up to {MAX_FIT_TOLERANCE_M} m"
         )));
     }
+    refuse_design_only_flags(&args.brief)?;
     let mut brief = args.brief.resolve()?;
     if args.brief.name.is_none() && args.brief.brief.is_none() {
         // No brief named the run: name the outputs after the centreline file.
@@ -370,38 +394,46 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
                             '_'
                         }
                     })
-                    .take(64)
+                    .take(58)
                     .collect()
             })
             .unwrap_or_default();
         brief.name = if stem.is_empty() { "loop".into() } else { stem };
     }
+    // The outputs carry "-check" so that checking a design's own files in its folder never
+    // overwrites them.
+    brief.name.push_str("-check");
     let imported = read_centreline(&args.path, args.layer.as_deref()).map_err(|e| match e {
         ImportError::Io { .. } => CliError::Io(e.to_string()),
         ImportError::Format { .. } => CliError::Usage(e.to_string()),
     })?;
-    let opts = CheckOptions {
+    let file = args.path.display().to_string();
+    let drawing = Drawing {
+        points_m: imported.points_m,
         points_are: match args.points {
             PointsArg::Rail => PointsAre::Rail,
             PointsArg::Heartline => PointsAre::Heartline,
         },
         tolerance_m: tol,
+        file: file.clone(),
+        source: imported.source,
     };
-    let file = args.path.display().to_string();
-    let checked = check_centreline(&brief, &imported, &file, &opts).map_err(|e| match e {
-        CheckFailure::Fit(f) => CliError::Usage(format!("{file}: {f}")),
-        stall @ CheckFailure::Stall { .. } => {
-            CliError::Fails(format!("{file}: {stall}\n{}", crate::report::CAUTION))
-        }
-    })?;
-    let files = crate::export::check::check_files(&checked)?;
-    let written = crate::export::write_files(files, &args.out)?;
+    let checked =
+        assess(&brief, &Curve::Drawing(&drawing), Vec::new(), 0).map_err(|e| match e {
+            EvalFailure::Stall(stall) => CliError::Fails(format!(
+                "{file}: at the entry speed {:.2} m/s {stall}\n{}",
+                brief.entry_speed_m_s,
+                crate::report::CAUTION
+            )),
+            other => CliError::Usage(format!("{file}: {other}")),
+        })?;
+    let written = write_design(&checked, &args.out)?;
     let mut out = crate::report::check_summary(&checked);
     out.push_str("wrote:\n");
     for p in written {
         out.push_str(&format!("  {}\n", p.display()));
     }
-    if !checked.verdict.pass {
+    if !checked.pass() {
         return Err(CliError::Fails(out));
     }
     Ok(if args.quiet { String::new() } else { out })

@@ -21,7 +21,8 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::brief::{Brief, ShapeKind};
-use crate::optimiser::{Design, Infeasible, design_family};
+use crate::model::Assessment;
+use crate::optimiser::{Infeasible, design_family};
 
 /// The key figures of one design, as quoted in compare tables and sweep rows.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -50,7 +51,7 @@ pub struct KeyFigures {
 
 impl KeyFigures {
     /// The figures of the reported (not the verification) evaluation, as the design report gives them.
-    pub fn of(d: &Design) -> KeyFigures {
+    pub fn of(d: &Assessment) -> KeyFigures {
         let s = &d.best.summary;
         KeyFigures {
             loop_height_m: s.loop_height_m,
@@ -79,7 +80,7 @@ impl KeyFigures {
 #[derive(Debug, Clone)]
 pub struct Entry {
     pub kind: ShapeKind,
-    pub result: Result<Design, Infeasible>,
+    pub result: Result<Assessment, Infeasible>,
 }
 
 impl Entry {
@@ -107,7 +108,7 @@ impl Comparison {
     }
 }
 
-/// Design `brief` with each of `kinds` (the brief's own `shape` is ignored). Families run in
+/// Assessment `brief` with each of `kinds` (the brief's own `shape` is ignored). Families run in
 /// parallel; each result is exactly what [`design_family`] returns for it alone.
 pub fn compare(brief: &Brief, kinds: &[ShapeKind]) -> Comparison {
     let entries = kinds

@@ -19,6 +19,7 @@ pub mod dynamics;
 pub mod export;
 pub mod geometry;
 pub mod import;
+pub mod model;
 pub mod optimiser;
 pub mod report;
 pub mod shape;

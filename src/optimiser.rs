@@ -30,13 +30,10 @@ use std::fmt;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use crate::brief::{Brief, Objective, ShapeKind};
-use crate::checks::envelope::{EnvelopeReport, EnvelopeTable, evaluate as evaluate_envelope};
-use crate::checks::{
-    CarSummary, Limits, Summary, Verdict, check, onset_for_limit, summarise_train,
-};
-use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
+use crate::checks::{Summary, Verdict, onset_for_limit};
 use crate::geometry::Centreline;
-use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
+use crate::model::{self, Curve};
+use crate::shape::{Profile, RideContext, ShapeFamily, family};
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -48,50 +45,7 @@ const SIZE_SLACK: f64 = 0.005;
 /// Intervals of the first scan over a one-parameter shape family, before Brent refines the best.
 const SCAN: usize = 4;
 
-/// One fully evaluated loop.
-#[derive(Debug, Clone)]
-pub struct Evaluation {
-    pub kind: ShapeKind,
-    pub shape: Vec<f64>,
-    pub top_radius_m: f64,
-    pub spacing_m: f64,
-    pub profile: CurvatureProfile,
-    pub path: Centreline,
-    /// The front car's ride (for one car, the point-mass ride).
-    pub ride: Ride,
-    /// Every car's ride.
-    pub train: TrainRide,
-    /// Worst-car figures: the checks and the search constrain the worst car.
-    pub summary: Summary,
-    /// Each car's figures (front first).
-    pub cars: Vec<CarSummary>,
-    pub verdict: Verdict,
-    /// The duration-based envelope check of every car, once assessed ([`Design::assess_envelope`];
-    /// the search itself does not evaluate it).
-    pub envelope: Option<EnvelopeReport>,
-}
-
-/// The result of a design run: the reported evaluation plus its finer re-check.
-#[derive(Debug, Clone)]
-pub struct Design {
-    pub brief: Brief,
-    pub shape_labels: Vec<&'static str>,
-    pub best: Evaluation,
-    /// The same loop at a quarter of the spacing: every limit was confirmed here.
-    pub verification: Evaluation,
-    /// How many loops the search evaluated.
-    pub evaluations: usize,
-}
-
-impl Design {
-    /// Check the verification ride (every car) against an envelope table, e.g. a user's `--limits`
-    /// file or [`EnvelopeTable::illustrative`]; the result is kept in `verification.envelope`.
-    pub fn assess_envelope(&mut self, table: &EnvelopeTable) -> &EnvelopeReport {
-        let v = &mut self.verification;
-        v.envelope
-            .insert(evaluate_envelope(table, &v.path, &v.train))
-    }
-}
+pub use crate::model::{Assessment, EvalFailure, Evaluation, conditions, train_of};
 
 /// A suggestion of the nearest value of a brief field that would make the brief feasible.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -137,7 +91,7 @@ impl fmt::Display for Infeasible {
 
 impl std::error::Error for Infeasible {}
 
-/// Evaluate one loop at one sampling.
+/// Evaluate one loop of a family at one sampling, with the brief's lateral shift.
 pub fn evaluate(
     brief: &Brief,
     kind: ShapeKind,
@@ -155,6 +109,32 @@ pub fn evaluate(
     )
 }
 
+/// The model's curve for a family loop: the force-first family's curvature is solved here (it
+/// depends on the ride); the others are pure geometry at the given size.
+pub fn curve_of<'a>(
+    brief: &Brief,
+    kind: ShapeKind,
+    shape: &'a [f64],
+    top_radius_m: f64,
+) -> Result<Curve<'a>, EvalFailure> {
+    if kind != ShapeKind::Profile {
+        return Ok(Curve::family(kind, shape, top_radius_m));
+    }
+    if brief.profile.is_none() {
+        return Err(EvalFailure::Shape(
+            "the profile family needs a [profile] table in the brief".into(),
+        ));
+    }
+    let profile = family_for(brief, kind)
+        .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
+        .map_err(|e| EvalFailure::Shape(e.to_string()))?;
+    Ok(Curve::Solved {
+        kind,
+        shape,
+        profile,
+    })
+}
+
 /// As [`evaluate`], with the lateral shift given explicitly. The coarse search runs planar (the
 /// shift moves loads by about a thousandth of a g and costs as much as the rest of the geometry);
 /// the polish and the verification use the brief's shift, so what is reported is exact.
@@ -166,62 +146,8 @@ pub fn evaluate_shifted(
     spacing_m: f64,
     lateral_shift_m: f64,
 ) -> Result<Evaluation, EvalFailure> {
-    if kind == ShapeKind::Profile && brief.profile.is_none() {
-        return Err(EvalFailure::Shape(
-            "the profile family needs a [profile] table in the brief".into(),
-        ));
-    }
-    let fam = family_for(brief, kind);
-    let profile = fam
-        .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
-        .map_err(|e| EvalFailure::Shape(e.to_string()))?;
-    let path = Centreline::build_shifted(
-        &profile,
-        brief.heartline_height_m,
-        spacing_m,
-        lateral_shift_m,
-    );
-    // A force-first loop's size comes from the ride: report the top radius it actually has.
-    let top_radius_m = if fam.size_from_ride() {
-        1.0 / path.top().curvature_1_m
-    } else {
-        top_radius_m
-    };
-    let cond = conditions(brief);
-    let train = simulate_train(&path, &cond, &train_of(brief)).map_err(EvalFailure::Stall)?;
-    let (summary, cars) = summarise_train(&path, &train);
-    let verdict = check(&summary, &Limits::from(brief));
-    let ride = train.cars[0].clone();
-    let envelope = None;
-    Ok(Evaluation {
-        kind,
-        shape: shape.to_vec(),
-        top_radius_m,
-        spacing_m,
-        profile,
-        path,
-        ride,
-        train,
-        summary,
-        cars,
-        verdict,
-        envelope,
-    })
-}
-
-/// The train a brief describes.
-pub fn train_of(brief: &Brief) -> Train {
-    Train {
-        cars: brief.cars,
-        car_pitch_m: brief.car_pitch_m,
-    }
-}
-
-/// Why a loop could not be evaluated at all.
-#[derive(Debug, Clone, PartialEq)]
-pub enum EvalFailure {
-    Shape(String),
-    Stall(Stall),
+    let curve = curve_of(brief, kind, shape, top_radius_m)?;
+    model::evaluate(brief, &curve, spacing_m, lateral_shift_m)
 }
 
 /// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
@@ -258,15 +184,6 @@ pub fn ride_context(brief: &Brief) -> RideContext {
     }
 }
 
-/// Dynamics conditions from a brief.
-pub fn conditions(brief: &Brief) -> Conditions {
-    Conditions {
-        entry_speed_m_s: brief.entry_speed_m_s,
-        rolling_resistance: brief.rolling_resistance,
-        drag_per_metre: brief.drag_per_metre(),
-    }
-}
-
 /// Which side of the size range a group of limits bounds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Side {
@@ -282,7 +199,7 @@ fn side_margin(brief: &Brief, eval: &Result<Evaluation, EvalFailure>, side: Side
         // A stall is an upper-side failure; deeper into it is worse, so keep it clearly negative.
         (Err(EvalFailure::Stall(_)), Side::Upper) => -10.0,
         (Err(EvalFailure::Stall(_)), Side::Lower) => 1.0,
-        (Err(EvalFailure::Shape(_)), _) => -1e3,
+        (Err(EvalFailure::Shape(_) | EvalFailure::Fit(_)), _) => -1e3,
         (Ok(e), Side::Upper) => {
             let s = &e.summary;
             let mut m = s.top_normal_g - brief.min_top_g;
@@ -295,7 +212,7 @@ fn side_margin(brief: &Brief, eval: &Result<Evaluation, EvalFailure>, side: Side
             let s = &e.summary;
             // The profile's own smallest radius is exact whatever the sampling (a coarse sampling
             // can step over the tightest point of a spline); the sampled one also sees the shift.
-            let radius_m = s.min_radius_m.min(e.profile.min_radius_m());
+            let radius_m = e.min_radius_m();
             let mut m = (brief.max_g - s.peak_normal_g).min(radius_m - brief.min_radius_m);
             if let Some(o) = brief.max_onset_g_s {
                 // An unbounded onset (curvature step) can never pass; give it a finite, clearly
@@ -727,12 +644,12 @@ fn search_shape(brief: &Brief, fam: &dyn ShapeFamily, counter: &AtomicUsize) -> 
 }
 
 /// Design the loop the brief asks for, with its own shape family.
-pub fn design(brief: &Brief) -> Result<Design, Infeasible> {
+pub fn design(brief: &Brief) -> Result<Assessment, Infeasible> {
     design_family(brief, brief.shape)
 }
 
 /// Design the loop the brief asks for with a given family.
-pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
+pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infeasible> {
     if family_for(brief, kind).size_from_ride() {
         return crate::optimiser::force_first::design_profile(brief, kind);
     }
@@ -757,27 +674,49 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasibl
                     .ok_or_else(|| shape_failure(kind, "no geometry"))?
         }
     };
-    let best = evaluate(brief, kind, &shape, r, brief.spacing_m)
+    let curve = curve_of(brief, kind, &shape, r).map_err(|e| eval_failure(brief, kind, e))?;
+    conclude(
+        brief,
+        kind,
+        &curve,
+        fam.shape_labels().to_vec(),
+        counter.load(Ordering::Relaxed),
+        |v| explain_failed_checks(brief, kind, v, &counter),
+    )
+}
+
+/// Assess the chosen loop with the model (brief's spacing, a quarter of it, the envelope) and
+/// accept it only if every limit holds there: a failing verdict is explained by `explain`, a
+/// failing enforced limit table is reported line by line.
+pub(crate) fn conclude(
+    brief: &Brief,
+    kind: ShapeKind,
+    curve: &Curve<'_>,
+    shape_labels: Vec<&'static str>,
+    evaluations: usize,
+    explain: impl FnOnce(&Verdict) -> Infeasible,
+) -> Result<Assessment, Infeasible> {
+    let a = model::assess(brief, curve, shape_labels, evaluations)
         .map_err(|e| eval_failure(brief, kind, e))?;
-    let verification = evaluate(brief, kind, &shape, r, brief.spacing_m / 4.0)
-        .map_err(|e| eval_failure(brief, kind, e))?;
-    if !verification.verdict.pass || !best.verdict.pass {
-        return Err(explain_failed_checks(
-            brief,
-            kind,
-            &verification.verdict,
-            &counter,
-        ));
+    if !a.verification.verdict.pass || !a.best.verdict.pass {
+        return Err(explain(&a.verification.verdict));
     }
-    let mut d = Design {
-        brief: brief.clone(),
-        shape_labels: fam.shape_labels().to_vec(),
-        best,
-        verification,
-        evaluations: counter.load(Ordering::Relaxed),
-    };
-    d.assess_envelope(&EnvelopeTable::illustrative());
-    Ok(d)
+    match a.envelope() {
+        Some(env) if a.envelope_enforced() && !env.pass => {
+            let mut reasons = vec![format!(
+                "the best loop for the brief fails the acceleration envelope of {}",
+                brief.limits_file.as_deref().unwrap_or("the limits file")
+            )];
+            reasons.extend(env.failures());
+            reasons.push("run without --limits to write the design for inspection".into());
+            Err(Infeasible {
+                shape: kind,
+                reasons,
+                nearest: vec![],
+            })
+        }
+        _ => Ok(a),
+    }
 }
 
 fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {
@@ -788,9 +727,10 @@ fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {
     }
 }
 
-fn eval_failure(brief: &Brief, kind: ShapeKind, e: EvalFailure) -> Infeasible {
+pub(crate) fn eval_failure(brief: &Brief, kind: ShapeKind, e: EvalFailure) -> Infeasible {
     match e {
         EvalFailure::Shape(m) => shape_failure(kind, &m),
+        EvalFailure::Fit(f) => shape_failure(kind, &f.to_string()),
         EvalFailure::Stall(s) => Infeasible {
             shape: kind,
             reasons: vec![format!("at {:.2} m/s {s}", brief.entry_speed_m_s)],

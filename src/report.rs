@@ -1,7 +1,8 @@
 //! Report: the caution every output carries and the terminal summary of a design.
 
 use crate::checks::{CheckLine, Summary};
-use crate::optimiser::{Design, Infeasible};
+use crate::model::{Assessment, Origin};
+use crate::optimiser::Infeasible;
 use crate::units::describe_speed;
 
 /// The caution printed in every report, JSON file, SVG and the README.
@@ -10,10 +11,10 @@ standard (e.g. ASTM F2291, EN 13814), local codes and a licensed engineer's revi
 illustrative, not values from any standard.";
 
 /// A short terminal table of the key figures, with the checks and the caution.
-pub fn terminal_summary(d: &Design) -> String {
+pub fn terminal_summary(d: &Assessment) -> String {
     let s = &d.best.summary;
     let b = &d.brief;
-    let mut out = format!("loopwright design: {} ({})\n", b.title, d.best.kind);
+    let mut out = format!("loopwright design: {} ({})\n", b.title, d.best.label());
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
     figure_rows(&mut out, s, Some(d.best.top_radius_m));
     let onset = if s.max_load_step_g > 1e-9 {
@@ -45,7 +46,7 @@ pub fn terminal_summary(d: &Design) -> String {
         let p: Vec<String> = d
             .shape_labels
             .iter()
-            .zip(&d.best.shape)
+            .zip(d.best.shape())
             .map(|(l, v)| format!("{l} = {v:.4}"))
             .collect();
         row(&mut out, "shape parameters", p.join(", "));
@@ -59,13 +60,15 @@ pub fn terminal_summary(d: &Design) -> String {
 }
 
 /// Terminal lines for the lateral shift, the train's cars and the duration envelope.
-pub fn train_and_envelope(d: &Design) -> String {
+pub fn train_and_envelope(d: &Assessment) -> String {
     let b = &d.brief;
     let s = &d.verification.summary;
     let mut out = String::new();
     out.push_str(&format!(
         "  {:<34} {:.2} m (exit beside entry); peak roll of the rider {:.2} deg\n",
-        "lateral shift", b.lateral_shift_m, s.peak_roll_deg
+        "lateral shift",
+        d.lateral_shift_m(),
+        s.peak_roll_deg
     ));
     let cars = &d.verification.cars;
     if cars.len() > 1 {
@@ -113,23 +116,27 @@ pub fn train_and_envelope(d: &Design) -> String {
     out
 }
 
-/// A short terminal table of a checked centreline: the fit, the key figures and the checks.
-pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String {
-    let (s, f, b) = (&c.summary, &c.fit, &c.brief);
-    let mut out = format!("loopwright check: {} ({})\n", c.file, c.source);
+/// A short terminal table of a checked centreline: the fit, the key figures, the checks, the
+/// train and the envelope.
+pub fn check_summary(a: &Assessment) -> String {
+    let (s, b) = (&a.best.summary, &a.brief);
+    let Origin::Drawing { file, source, fit } = &a.best.origin else {
+        return terminal_summary(a);
+    };
+    let mut out = format!("loopwright check: {file} ({source})\n");
     row(
         &mut out,
         "points read as",
-        format!("{:?} ({} points)", f.points_are, f.points).to_lowercase(),
+        format!("{:?} ({} points)", fit.points_are, fit.points).to_lowercase(),
     );
     row(
         &mut out,
         "smoothing spline fit",
         format!(
             "RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS)",
-            f.rms_residual_m * 1e3,
-            f.max_residual_m * 1e3,
-            f.tolerance_m * 1e3
+            fit.rms_residual_m * 1e3,
+            fit.max_residual_m * 1e3,
+            fit.tolerance_m * 1e3
         ),
     );
     row(
@@ -137,7 +144,7 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
         "plane",
         format!(
             "tilt {:.3}° from vertical; lateral spread {:.3} m across it",
-            f.plane_tilt_deg, f.lateral_extent_m
+            fit.plane_tilt_deg, fit.lateral_extent_m
         ),
     );
     row(&mut out, "entry speed", describe_speed(b.entry_speed_m_s));
@@ -153,8 +160,9 @@ pub fn check_summary(c: &crate::checks::centreline::CheckedCentreline) -> String
         format!("{:.3} g", s.peak_lateral_g),
     );
     row(&mut out, "exit speed", describe_speed(s.exit_speed_m_s));
-    out.push_str("  checks:\n");
-    check_lines(&mut out, &c.verdict.lines);
+    out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
+    check_lines(&mut out, &a.verification.verdict.lines);
+    out.push_str(&train_and_envelope(a));
     out.push_str(CAUTION);
     out.push('\n');
     out

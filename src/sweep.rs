@@ -347,7 +347,10 @@ impl SweepSpec {
         b.entry_speed = Some(SpeedText::Number(p.entry_speed_m_s));
         b.max_g = Some(p.max_g);
         b.min_top_g = Some(p.min_top_g);
-        b.resolve()
+        let mut brief = b.resolve()?;
+        // The limit table was read once, for the base brief; every design enforces it.
+        brief.limits_table = self.base_brief.limits_table.clone();
+        Ok(brief)
     }
 
     /// A fingerprint of everything that decides the results (not the name or title), so that
@@ -370,6 +373,14 @@ impl SweepSpec {
             bits(&self.max_g),
             bits(&self.min_top_g)
         );
+        // A limit table decides feasibility too (it is not part of the brief's echo).
+        let canon = match &self.base_brief.limits_table {
+            Some(t) => format!(
+                "{canon}|limits:{}",
+                serde_json::to_string(t).unwrap_or_default()
+            ),
+            None => canon,
+        };
         let mut h: u64 = 0xcbf2_9ce4_8422_2325;
         for byte in canon.bytes() {
             h ^= u64::from(byte);

@@ -13,47 +13,65 @@
 mod common;
 
 use loopwright::brief::Brief;
-use loopwright::checks::centreline::{CheckOptions, CheckedCentreline, check_centreline};
 use loopwright::geometry::fit::{DEFAULT_TOLERANCE_M, PointsAre, SmoothingSpline};
+use loopwright::import::ImportedCentreline;
 use loopwright::import::{MAX_FILE_BYTES, read_centreline};
-use loopwright::optimiser::{Design, design};
+use loopwright::model::{Assessment, Drawing, check};
+use loopwright::optimiser::design;
 use std::path::Path;
 
 /// The demo design as `design` draws it by default: spread sideways (3D centreline).
-fn demo() -> Design {
+fn demo() -> Assessment {
     design(&Brief::demo()).expect("the demo brief is feasible")
 }
 
 /// The demo design with the given lateral shift (0: the planar loop).
-fn demo_shifted(shift_m: f64) -> Design {
+fn demo_shifted(shift_m: f64) -> Assessment {
     let mut b = Brief::demo();
     b.lateral_shift_m = shift_m;
     design(&b).expect("the demo brief is feasible")
 }
 
+/// How a test reads points (the `check` command's `--points` and `--fit-tolerance`).
+struct CheckOptions {
+    points_are: PointsAre,
+    tolerance_m: f64,
+}
+
+/// The library's check of imported points, as `loopwright check` runs it.
+fn check_drawing(
+    brief: &Brief,
+    imported: &ImportedCentreline,
+    file: &str,
+    opts: &CheckOptions,
+) -> Result<Assessment, loopwright::model::EvalFailure> {
+    let drawing = Drawing::from_import(imported.clone(), file, opts.points_are, opts.tolerance_m);
+    check(brief, &drawing)
+}
+
 fn check_file(
-    d: &Design,
+    d: &Assessment,
     file: &Path,
     layer: Option<&str>,
     points_are: PointsAre,
-) -> CheckedCentreline {
+) -> Assessment {
     let imported = read_centreline(file, layer).unwrap();
     let opts = CheckOptions {
         points_are,
         tolerance_m: DEFAULT_TOLERANCE_M,
     };
-    check_centreline(&d.brief, &imported, "test", &opts).unwrap()
+    check_drawing(&d.brief, &imported, "test", &opts).unwrap()
 }
 
 /// Largest |Δ normal_g| and |Δ lateral_g| over every design station, the check's loads
 /// interpolated at the same heartline arc length (both start at the heartline entry point).
-fn worst_differences(d: &Design, c: &CheckedCentreline) -> (f64, f64) {
-    let cs: Vec<f64> = c.path.stations.iter().map(|s| s.s_m).collect();
+fn worst_differences(d: &Assessment, c: &Assessment) -> (f64, f64) {
+    let cs: Vec<f64> = c.best.path.stations.iter().map(|s| s.s_m).collect();
     let (mut worst_n, mut worst_l): (f64, f64) = (0.0, 0.0);
     for (st, p) in d.best.path.stations.iter().zip(&d.best.ride.points) {
         let i = cs.partition_point(|&s| s <= st.s_m).clamp(1, cs.len() - 1);
         let f = ((st.s_m - cs[i - 1]) / (cs[i] - cs[i - 1])).clamp(0.0, 1.0);
-        let (a, b) = (&c.ride.points[i - 1], &c.ride.points[i]);
+        let (a, b) = (&c.best.ride.points[i - 1], &c.best.ride.points[i]);
         let n = a.normal_g + f * (b.normal_g - a.normal_g);
         let l = a.lateral_g + f * (b.lateral_g - a.lateral_g);
         worst_n = worst_n.max((n - p.normal_g).abs());
@@ -63,7 +81,7 @@ fn worst_differences(d: &Design, c: &CheckedCentreline) -> (f64, f64) {
 }
 
 /// Largest |Δ normal_g| (see [`worst_differences`]).
-fn worst_load_difference(d: &Design, c: &CheckedCentreline) -> f64 {
+fn worst_load_difference(d: &Assessment, c: &Assessment) -> f64 {
     worst_differences(d, c).0
 }
 
@@ -78,7 +96,7 @@ fn write_points(file: &Path, pts: impl Iterator<Item = (f64, f64, f64)>) {
 /// Issue floor: design → heartline CSV → check gives the design's loads within 0.05 g; and the
 /// rail points (heartline offset by the heartline height) give them too. Returns the worst
 /// (|Δ normal_g|, |Δ lateral_g|) over both.
-fn csv_round_trip(d: &Design, label: &str) -> (f64, f64) {
+fn csv_round_trip(d: &Assessment, label: &str) -> (f64, f64) {
     let dir = tempfile::tempdir().unwrap();
     let heart = dir.path().join("heart.csv");
     write_points(
@@ -93,13 +111,13 @@ fn csv_round_trip(d: &Design, label: &str) -> (f64, f64) {
     let (wn, wl) = worst_differences(d, &c);
     eprintln!(
         "{label} heartline CSV round trip: worst |Δn| = {wn:.4} g, |Δlat| = {wl:.4} g; peak {:.4} vs {:.4} g, peak lateral {:.4} vs {:.4} g",
-        c.summary.peak_normal_g,
+        c.best.summary.peak_normal_g,
         d.best.summary.peak_normal_g,
-        c.summary.peak_lateral_g,
+        c.best.summary.peak_lateral_g,
         d.best.summary.peak_lateral_g
     );
     assert!(wn < 0.05, "{label}: worst {wn} g");
-    assert!((c.summary.loop_height_m - d.best.summary.loop_height_m).abs() < 0.01);
+    assert!((c.best.summary.loop_height_m - d.best.summary.loop_height_m).abs() < 0.01);
     let rail = dir.path().join("rail.csv");
     write_points(
         &rail,
@@ -113,9 +131,9 @@ fn csv_round_trip(d: &Design, label: &str) -> (f64, f64) {
     let (rn, rl) = worst_differences(d, &r);
     eprintln!("{label} rail CSV round trip: worst |Δn| = {rn:.4} g, |Δlat| = {rl:.4} g");
     assert!(rn < 0.05, "{label}: worst {rn} g");
-    assert!((r.summary.rail_height_m - d.best.summary.rail_height_m).abs() < 0.01);
+    assert!((r.best.summary.rail_height_m - d.best.summary.rail_height_m).abs() < 0.01);
     // The sideways spread is reported: the design's lateral extent (rail and heartline share y).
-    for f in [&c.fit, &r.fit] {
+    for f in [c.fit().unwrap(), r.fit().unwrap()] {
         let want = d.best.path.lateral_extent_m();
         assert!(
             (f.lateral_extent_m - want).abs() < 1e-3,
@@ -194,7 +212,7 @@ fn shifted_loop_lateral_load_matches_the_design() {
         );
         let c = check_file(&d, &rail, None, PointsAre::Rail);
         let (wn, wl) = worst_differences(&d, &c);
-        let (peak_c, peak_d) = (c.summary.peak_lateral_g, d.best.summary.peak_lateral_g);
+        let (peak_c, peak_d) = (c.best.summary.peak_lateral_g, d.best.summary.peak_lateral_g);
         eprintln!(
             "shift {shift} m, rail CSV: worst |Δn| = {wn:.4} g, |Δlat| = {wl:.4} g; peak lateral {peak_c:.4} vs {peak_d:.4} g"
         );
@@ -203,20 +221,20 @@ fn shifted_loop_lateral_load_matches_the_design() {
         assert!(wl < LATERAL_AGREEMENT_G, "{wl}");
         assert!((peak_c - peak_d).abs() < 0.005, "{peak_c} vs {peak_d}");
         // Within 1e-5 rad (the fitted end tangents carry ~2e-6 of smoothing error sideways).
-        let nrm = c.fit.plane_normal;
+        let nrm = c.fit().unwrap().plane_normal;
         assert!(
             nrm[0].abs() < 1e-5 && nrm[1] > 0.0 && nrm[2].abs() < 1e-5,
             "{nrm:?}"
         );
-        assert!((c.fit.lateral_extent_m - shift.abs()).abs() < 1e-3);
+        assert!((c.fit().unwrap().lateral_extent_m - shift.abs()).abs() < 1e-3);
         // The rider's roll follows the design's (head kept in the main plane).
         let roll = |p: &loopwright::geometry::Centreline| p.peak_roll_rad().to_degrees();
-        assert!((roll(&c.path) - roll(&d.best.path)).abs() < 0.05);
+        assert!((roll(&c.best.path) - roll(&d.best.path)).abs() < 0.05);
     }
 }
 
 fn rotate_points(
-    d: &Design,
+    d: &Assessment,
     about_x_deg: f64,
     mut y_of: impl FnMut(usize) -> f64,
 ) -> Vec<nalgebra::Vector3<f64>> {
@@ -233,7 +251,7 @@ fn rotate_points(
         .collect()
 }
 
-fn check_points(d: &Design, pts: Vec<nalgebra::Vector3<f64>>) -> Result<CheckedCentreline, String> {
+fn check_points(d: &Assessment, pts: Vec<nalgebra::Vector3<f64>>) -> Result<Assessment, String> {
     let imported = loopwright::import::ImportedCentreline {
         points_m: pts,
         source: "rotated".into(),
@@ -243,7 +261,7 @@ fn check_points(d: &Design, pts: Vec<nalgebra::Vector3<f64>>) -> Result<CheckedC
         points_are: PointsAre::Heartline,
         tolerance_m: DEFAULT_TOLERANCE_M,
     };
-    check_centreline(&d.brief, &imported, "rotated", &opts).map_err(|e| e.to_string())
+    check_drawing(&d.brief, &imported, "rotated", &opts).map_err(|e| e.to_string())
 }
 
 /// The plane must still be near vertical: the planar loop tilted 5° about the entry direction is
@@ -255,7 +273,7 @@ fn tilted_or_widely_spread_points_are_refused_clearly() {
     let d = demo_shifted(0.0);
     let e = match check_points(&d, rotate_points(&d, 5.0, |_| 0.0)) {
         Err(e) => e,
-        Ok(c) => panic!("a 5° tilt was accepted: {:?}", c.fit),
+        Ok(c) => panic!("a 5° tilt was accepted: {:?}", c.fit().unwrap()),
     };
     assert!(
         e.contains("tilted 5.00° from vertical") && e.contains("allowed 2°"),
@@ -263,16 +281,16 @@ fn tilted_or_widely_spread_points_are_refused_clearly() {
     );
     let c = check_points(&d, rotate_points(&d, 1.5, |_| 0.0)).unwrap();
     assert!(
-        (c.fit.plane_tilt_deg - 1.5).abs() < 1e-6,
+        (c.fit().unwrap().plane_tilt_deg - 1.5).abs() < 1e-6,
         "{}",
-        c.fit.plane_tilt_deg
+        c.fit().unwrap().plane_tilt_deg
     );
     let wn = worst_load_difference(&d, &c);
     assert!(wn < 0.05, "{wn}");
     // Tilted by α, gravity has a constant component sin α along the rider's left axis and the
     // curvature none (first principles): the felt lateral load is sin α everywhere.
     let want = 1.5f64.to_radians().sin();
-    for p in &c.ride.points {
+    for p in &c.best.ride.points {
         assert!(
             (p.lateral_g.abs() - want).abs() < 1e-6,
             "{} vs {want}",
@@ -288,7 +306,7 @@ fn tilted_or_widely_spread_points_are_refused_clearly() {
     };
     let e = match check_points(&d, rotate_points(&d, 0.0, spread)) {
         Err(e) => e,
-        Ok(c) => panic!("a 20 m spread was accepted: {:?}", c.fit),
+        Ok(c) => panic!("a 20 m spread was accepted: {:?}", c.fit().unwrap()),
     };
     assert!(
         e.contains("spread") && e.contains("across the loop's plane") && e.contains("a quarter"),
@@ -519,7 +537,7 @@ mod refusals {
             points_are: PointsAre::Rail,
             tolerance_m: DEFAULT_TOLERANCE_M,
         };
-        let e = check_centreline(&Brief::demo(), &imported, "far", &opts)
+        let e = check_drawing(&Brief::demo(), &imported, "far", &opts)
             .unwrap_err()
             .to_string();
         assert!(
@@ -603,13 +621,13 @@ fn shipped_examples_run() {
         points_are: PointsAre::Rail,
         tolerance_m: 0.001,
     };
-    let c = check_centreline(&brief, &imported, "edited", &opts).unwrap();
-    assert!(c.verdict.pass);
+    let c = check_drawing(&brief, &imported, "edited", &opts).unwrap();
+    assert!(c.best.verdict.pass);
     // The edit lengthens the path, so compare by turning angle (pitch) rather than arc length:
     // the check's load at each design station's pitch, on the loop proper where pitch rises.
     let th_top = d.best.path.stations[top].pitch_rad;
     let mut curve: Vec<(f64, f64)> = Vec::new();
-    for (st, p) in c.path.stations.iter().zip(&c.ride.points) {
+    for (st, p) in c.best.path.stations.iter().zip(&c.best.ride.points) {
         if st.pitch_rad > curve.last().map_or(1e-3, |l| l.0)
             && st.pitch_rad < 2.0 * std::f64::consts::PI - 1e-3
         {
@@ -675,7 +693,7 @@ fn noisy_points_need_smoothing() {
             points_are: PointsAre::Heartline,
             tolerance_m: tol,
         };
-        check_centreline(&d.brief, &imported, "noisy", &opts)
+        check_drawing(&d.brief, &imported, "noisy", &opts)
     };
     let smooth = run(0.0006).expect("smoothed points ride");
     let w = worst_load_difference(&d, &smooth);
@@ -863,7 +881,7 @@ fn planar_loops_give_the_previous_results() {
             points_are: kind,
             tolerance_m: DEFAULT_TOLERANCE_M,
         };
-        let now = check_centreline(b, &imported, "planar", &opts).unwrap();
+        let now = check_drawing(b, &imported, "planar", &opts).unwrap();
         let before = previous_planar_fit::fit(
             &pts,
             DEFAULT_TOLERANCE_M,
@@ -872,14 +890,14 @@ fn planar_loops_give_the_previous_results() {
             b.spacing_m,
         );
         let ride = simulate(&before, &cond).unwrap();
-        assert_eq!(now.path.stations.len(), before.stations.len());
+        assert_eq!(now.best.path.stations.len(), before.stations.len());
         let (mut dn, mut dl, mut ds, mut dp): (f64, f64, f64, f64) = (0.0, 0.0, 0.0, 0.0);
         for i in 0..before.stations.len() {
-            let (a, p) = (&now.path.stations[i], &before.stations[i]);
+            let (a, p) = (&now.best.path.stations[i], &before.stations[i]);
             ds = ds.max((a.s_m - p.s_m).abs());
             dp = dp.max((a.heartline_m - p.heartline_m).norm());
-            dn = dn.max((now.ride.points[i].normal_g - ride.points[i].normal_g).abs());
-            dl = dl.max((now.ride.points[i].lateral_g - ride.points[i].lateral_g).abs());
+            dn = dn.max((now.best.ride.points[i].normal_g - ride.points[i].normal_g).abs());
+            dl = dl.max((now.best.ride.points[i].lateral_g - ride.points[i].lateral_g).abs());
         }
         eprintln!(
             "{kind:?}: planar fit now vs before: |Δn| {dn:.1e} g, |Δlat| {dl:.1e} g, |Δs| {ds:.1e} m, |Δr| {dp:.1e} m"
@@ -887,9 +905,9 @@ fn planar_loops_give_the_previous_results() {
         assert!(dn < 1e-9 && dl < 1e-9, "{dn} {dl}");
         assert!(ds < 1e-9 && dp < 1e-9, "{ds} {dp}");
         assert!(
-            now.fit.lateral_extent_m < 1e-9,
+            now.fit().unwrap().lateral_extent_m < 1e-9,
             "{}",
-            now.fit.lateral_extent_m
+            now.fit().unwrap().lateral_extent_m
         );
     }
 }

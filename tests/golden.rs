@@ -125,9 +125,7 @@ fn outputs_match_the_golden_manifest() {
     let want: BTreeMap<String, String> = text
         .lines()
         .filter_map(|l| {
-            let mut it = l.rsplitn(2, '\t');
-            let hash = it.next()?;
-            let key = it.next()?;
+            let (key, hash) = l.rsplit_once('\t')?;
             Some((key.to_string(), hash.to_string()))
         })
         .collect();

@@ -2,7 +2,8 @@
 //! that violates a limit — checked by an independent re-simulation written in this file.
 
 use loopwright::brief::{Brief, BriefInput, ShapeKind, SpeedText};
-use loopwright::optimiser::{Design, design, design_family};
+use loopwright::model::Assessment;
+use loopwright::optimiser::{design, design_family};
 use loopwright::units::STANDARD_GRAVITY_M_S2 as G;
 use proptest::prelude::*;
 
@@ -10,9 +11,12 @@ use proptest::prelude::*;
 /// (z, v²) with dz/ds = sin θ, d(v²)/ds = −2g sin θ − 2μ|a⊥| − k v², where θ(s) comes from the
 /// profile's exact pitch and |a⊥| = |v²κ + g cos θ| in a planar loop (first principles). Returns
 /// (peak normal g, normal g at the top, smallest v²) at step `ds`.
-fn resimulate(d: &Design, ds: f64) -> (f64, f64, f64) {
+fn resimulate(d: &Assessment, ds: f64) -> (f64, f64, f64) {
     let b = &d.brief;
-    let p = &d.best.profile;
+    let p = d
+        .best
+        .profile()
+        .expect("a designed loop has curvature pieces");
     let (mu, k) = (
         b.rolling_resistance,
         b.air_density_kg_m3 * b.drag_area_m2 / b.mass_kg,

@@ -372,7 +372,7 @@ fn hostile_limit_files_are_rejected_clearly() {
         "--limits",
         missing.to_str().unwrap(),
     ]);
-    assert_eq!(code, loopwright::cli::EXIT_IO);
+    assert_eq!(code, loopwright::cli::EXIT_USAGE);
 }
 
 /// A user's envelope that the demo design cannot meet (its loads stay above 2 g far longer than
@@ -403,13 +403,22 @@ fn a_failing_user_envelope_exits_infeasible() {
     // The same check in-process names the level and the run.
     let mut b = Brief::demo();
     b.spacing_m = 0.1;
-    let mut d = design_family(&b, ShapeKind::Clothoid).unwrap();
-    let rep = d
-        .assess_envelope(&EnvelopeTable::from_toml(&std::fs::read_to_string(&f).unwrap()).unwrap())
-        .clone();
+    let d = design_family(&b, ShapeKind::Clothoid).unwrap();
+    let table = EnvelopeTable::from_toml(&std::fs::read_to_string(&f).unwrap()).unwrap();
+    let rep =
+        loopwright::checks::envelope::evaluate(&table, &d.verification.path, &d.verification.train);
     let l = &rep.levels[0];
     assert!(!l.pass && l.longest_s > 0.5, "{l:?}");
     assert!(rep.failures()[0].contains("normal above 2.000 g for at most 0.050 s"));
+    // With the table in the brief, the model enforces it: the design is refused with the level.
+    b.limits_table = Some(table);
+    let inf = design_family(&b, ShapeKind::Clothoid).unwrap_err();
+    assert!(
+        inf.reasons
+            .iter()
+            .any(|r| r.contains("normal above 2.000 g for at most 0.050 s")),
+        "{inf}"
+    );
 }
 
 /// Hostile train and shift values in a brief are refused with the field, value and range.

@@ -46,6 +46,10 @@ pub struct SweepArgs {
     /// Families, comma-separated (default: all).
     #[arg(long, value_name = "LIST")]
     pub shape: Option<String>,
+    /// Duration-based acceleration limits (TOML) enforced on every design: a design failing them
+    /// is an infeasible row. Overrides `limits_file` in the sweep file.
+    #[arg(long, value_name = "FILE")]
+    pub limits: Option<PathBuf>,
     /// Heartline sample spacing of each design, m (coarser is faster).
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub spacing: Option<f64>,
@@ -159,6 +163,7 @@ pub fn sweep_spec(args: &SweepArgs) -> Result<SweepSpec, CliError> {
     let flags = BriefInput {
         name: args.name.clone(),
         spacing_m: args.spacing,
+        limits_file: args.limits.as_ref().map(|p| p.display().to_string()),
         ..BriefInput::default()
     };
     let base = file_brief.overlay(flags);
@@ -171,8 +176,11 @@ pub fn sweep_spec(args: &SweepArgs) -> Result<SweepSpec, CliError> {
             .as_ref()
             .map(|s| s.split(',').map(str::to_string).collect()),
     };
-    SweepSpec::new(base, &file_sweep.overlay(flag_sweep))
-        .map_err(|e| CliError::Usage(format!("{e}\nhint: see `loopwright sweep --help`")))
+    let mut spec = SweepSpec::new(base, &file_sweep.overlay(flag_sweep))
+        .map_err(|e| CliError::Usage(format!("{e}\nhint: see `loopwright sweep --help`")))?;
+    let brief_file = args.file.as_deref().filter(|_| args.limits.is_none());
+    super::attach_limits_table(&mut spec.base_brief, brief_file)?;
+    Ok(spec)
 }
 
 fn progress_bar(total: usize, quiet: bool) -> ProgressBar {

@@ -15,7 +15,7 @@ use nalgebra::Vector3;
 
 use super::ExportError;
 use super::plot::{clean_text, wrap};
-use crate::optimiser::Design;
+use crate::model::Assessment;
 use crate::report::CAUTION;
 
 /// Layer of the rail centreline.
@@ -42,7 +42,7 @@ pub const MAX_VERTICES: usize = 20_000;
 const NOTE_LINE_CHARS: usize = 90;
 
 /// DXF bytes of the design.
-pub fn dxf_bytes(design: &Design) -> Result<Vec<u8>, ExportError> {
+pub fn dxf_bytes(design: &Assessment) -> Result<Vec<u8>, ExportError> {
     let enc = |message: String| ExportError::Encode {
         what: "DXF",
         message,
@@ -85,7 +85,7 @@ pub fn dxf_bytes(design: &Design) -> Result<Vec<u8>, ExportError> {
     let header = format!(
         "loopwright: {} - {} loop, entry speed {:.2} m/s, loop height {:.3} m (heartline), {:.3} m (rail). Units: m.",
         design.brief.title,
-        design.best.kind.name(),
+        design.best.label(),
         design.brief.entry_speed_m_s,
         design.best.summary.loop_height_m,
         design.best.summary.rail_height_m

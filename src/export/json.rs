@@ -7,14 +7,15 @@ use crate::brief::Brief;
 use crate::checks::envelope::EnvelopeReport;
 use crate::checks::{CarSummary, CheckLine};
 use crate::dynamics::LoadStep;
-use crate::optimiser::Design;
+use crate::geometry::fit::FitReport;
+use crate::model::{Assessment, Origin};
 use crate::report::CAUTION;
 
 /// The report written as `<name>.json`.
 #[derive(Debug, Serialize)]
 pub struct Report<'a> {
     pub caution: &'static str,
-    pub shape: &'static str,
+    pub shape: String,
     pub feasible: bool,
     pub entry_speed_m_s: f64,
     pub loop_height_m: f64,
@@ -49,14 +50,27 @@ pub struct Report<'a> {
     pub per_car: &'a [CarSummary],
     /// The duration-based envelope check, level by level (null if not assessed).
     pub envelope: Option<&'a EnvelopeReport>,
+    /// For a centreline read from a drawing (`check`): the file, what was read and the fit.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub drawing: Option<DrawingReport<'a>>,
+}
+
+/// Where a checked centreline came from and how it was fitted.
+#[derive(Debug, Serialize)]
+pub struct DrawingReport<'a> {
+    pub file: &'a str,
+    pub source: &'a str,
+    /// Every limit met (the same as `feasible`, named for a check).
+    pub pass: bool,
+    pub fit: &'a FitReport,
 }
 
 /// Build the report of a design.
-pub fn report(d: &Design) -> Report<'_> {
+pub fn report(d: &Assessment) -> Report<'_> {
     let s = &d.best.summary;
     Report {
         caution: CAUTION,
-        shape: d.best.kind.name(),
+        shape: d.best.label(),
         feasible: d.verification.verdict.pass,
         entry_speed_m_s: d.brief.entry_speed_m_s,
         loop_height_m: s.loop_height_m,
@@ -80,23 +94,32 @@ pub fn report(d: &Design) -> Report<'_> {
             .shape_labels
             .iter()
             .copied()
-            .zip(d.best.shape.iter().copied())
+            .zip(d.best.shape().iter().copied())
             .collect(),
         checks: &d.verification.verdict.lines,
         verified_at_spacing_m: d.verification.spacing_m,
         evaluations: d.evaluations,
         brief: &d.brief,
-        lateral_shift_m: d.brief.lateral_shift_m,
+        lateral_shift_m: d.lateral_shift_m(),
         peak_roll_deg: d.verification.summary.peak_roll_deg,
         cars: d.brief.cars,
         car_pitch_m: d.brief.car_pitch_m,
         per_car: &d.verification.cars,
         envelope: d.verification.envelope.as_ref(),
+        drawing: match &d.best.origin {
+            Origin::Drawing { file, source, fit } => Some(DrawingReport {
+                file,
+                source,
+                pass: d.pass(),
+                fit,
+            }),
+            Origin::Family { .. } => None,
+        },
     }
 }
 
 /// Pretty-printed JSON bytes of the report.
-pub fn report_json(d: &Design) -> Result<Vec<u8>, ExportError> {
+pub fn report_json(d: &Assessment) -> Result<Vec<u8>, ExportError> {
     let mut v = serde_json::to_vec_pretty(&report(d)).map_err(|e| ExportError::Encode {
         what: "JSON report",
         message: e.to_string(),

@@ -16,7 +16,6 @@
 //! `<name>-sweep.svg` ([`overlay`]).
 //! A `check` run writes `<name>-check.json` and `<name>-check-loads.csv` ([`check`]).
 
-pub mod check;
 pub mod dxf;
 pub mod json;
 pub mod overlay;
@@ -28,7 +27,7 @@ pub mod table;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use crate::optimiser::Design;
+use crate::model::Assessment;
 
 /// A file could not be produced or written.
 #[derive(Debug, thiserror::Error)]
@@ -102,7 +101,7 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError>
 
 /// Everything a design run writes, encoded in memory first so that nothing is written unless all
 /// of it could be produced.
-pub fn design_files(design: &Design) -> Result<Vec<(String, Vec<u8>)>, ExportError> {
+pub fn design_files(design: &Assessment) -> Result<Vec<(String, Vec<u8>)>, ExportError> {
     let name = &design.brief.name;
     // The DXF takes as long as all the rest together; encode it on another core meanwhile.
     let (dxf_bytes, rest) = rayon::join(
@@ -150,6 +149,6 @@ pub fn write_files(
 }
 
 /// Encode and write every output of a design into `out_dir` (created if missing).
-pub fn write_design(design: &Design, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
+pub fn write_design(design: &Assessment, out_dir: &Path) -> Result<Vec<PathBuf>, ExportError> {
     write_files(design_files(design)?, out_dir)
 }

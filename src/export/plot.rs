@@ -15,7 +15,7 @@
 use svg::Document;
 use svg::node::element::{Circle, Group, Line, Polyline, Rectangle, Text};
 
-use crate::optimiser::Design;
+use crate::model::Assessment as Design;
 use crate::report::CAUTION;
 
 /// Colours of the drawings (hex RGB), chosen for loopwright and readable on white.
@@ -577,7 +577,7 @@ pub fn loads_svg(design: &Design) -> String {
     let title = format!("Loads along the heartline - {}", clip(&b.title, 60));
     let subtitle = format!(
         "{} loop, entry speed {} m/s ({} km/h); peak normal {} g, normal at the top {} g",
-        design.best.kind.name(),
+        design.best.label(),
         fmt_num(b.entry_speed_m_s, 2),
         fmt_num(b.entry_speed_m_s * 3.6, 1),
         fmt_num(s.peak_normal_g, 2),

@@ -135,7 +135,7 @@ pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
                     .shape_labels
                     .iter()
                     .copied()
-                    .zip(d.best.shape.iter().copied())
+                    .zip(d.best.shape().iter().copied())
                     .collect(),
                 reason: None,
             },

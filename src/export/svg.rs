@@ -14,7 +14,7 @@ use super::plot::{
     LegendEntry, caution_block, clip, colour, fmt_num, legend, nice_number, points_attr, px, text,
     wrap,
 };
-use crate::optimiser::Design;
+use crate::model::Assessment as Design;
 
 /// Width of the elevation, px.
 pub const WIDTH_PX: f64 = 1000.0;
@@ -103,7 +103,7 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
             d.brief.title.clone(),
             format!(
                 "{} loop, entry speed {} m/s ({} km/h). Elevation: X along the entry direction, Z up; metres.",
-                d.best.kind.name(),
+                d.best.label(),
                 fmt_num(d.brief.entry_speed_m_s, 2),
                 fmt_num(d.brief.entry_speed_m_s * 3.6, 1)
             ),
@@ -177,7 +177,7 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
             let label = format!(
                 "{} ({}, {} m/s): loop height {} m heartline, {} m rail",
                 clip(&d.brief.name, 24),
-                d.best.kind.name(),
+                d.best.label(),
                 fmt_num(d.brief.entry_speed_m_s, 1),
                 fmt_num(s.loop_height_m, 2),
                 fmt_num(s.rail_height_m, 2)

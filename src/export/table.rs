@@ -3,7 +3,7 @@
 use super::ExportError;
 use crate::dynamics::Ride;
 use crate::geometry::Centreline;
-use crate::optimiser::Design;
+use crate::model::Assessment;
 
 /// Column names; units are in each name.
 pub const COLUMNS: [&str; 16] = [
@@ -26,7 +26,7 @@ pub const COLUMNS: [&str; 16] = [
 ];
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
-pub fn loads_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
+pub fn loads_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
     stations_csv(&design.best.path, &design.best.ride)
 }
 
@@ -83,7 +83,7 @@ pub const CAR_COLUMNS: [&str; 10] = [
 
 /// The per-car CSV bytes (`<name>-cars.csv`): one row per car per station, car 0 at the front;
 /// `s_m` is the car's own heartline position and `time_s` the train's clock when it is there.
-pub fn cars_csv(design: &Design) -> Result<Vec<u8>, ExportError> {
+pub fn cars_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
     let enc = |e: csv::Error| ExportError::Encode {
         what: "per-car table",
         message: e.to_string(),

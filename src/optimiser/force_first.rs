@@ -13,8 +13,8 @@ use argmin::solver::neldermead::NelderMead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{
-    Design, EvalFailure, Evaluation, Infeasible, Nearest, eval_failure, evaluate, family_for,
-    limit_field,
+    Assessment, EvalFailure, Evaluation, Infeasible, Nearest, conclude, curve_of, eval_failure,
+    evaluate, family_for, limit_field,
 };
 use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::onset_for_limit;
@@ -193,7 +193,7 @@ fn match_height(problem: &ProfileCost<'_>, shape: &[f64], height_m: f64) -> Opti
 }
 
 /// Design a force-first loop for the brief.
-pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
+pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infeasible> {
     let fam = family_for(brief, kind);
     let spec = brief.profile.as_ref().ok_or_else(|| Infeasible {
         shape: kind,
@@ -214,43 +214,40 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasib
     } else {
         fam.default_shape()
     };
-    let best = evaluate(brief, kind, &shape, 1.0, brief.spacing_m)
-        .map_err(|e| eval_failure(brief, kind, e))?;
-    let verification = evaluate(brief, kind, &shape, 1.0, brief.spacing_m / 4.0)
-        .map_err(|e| eval_failure(brief, kind, e))?;
-    if !verification.verdict.pass || !best.verdict.pass {
-        let mut reasons = Vec::new();
-        let mut nearest = Vec::new();
-        for l in verification.verdict.failures() {
-            let (field, unit) = limit_field(l.limit);
-            reasons.push(format!(
-                "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
-                l.label, l.value, l.limit_value
-            ));
-            if l.value.is_finite() {
-                nearest.push(Nearest {
-                    field,
-                    value: l.value,
-                    unit,
-                });
+    let curve = curve_of(brief, kind, &shape, 1.0).map_err(|e| eval_failure(brief, kind, e))?;
+    conclude(
+        brief,
+        kind,
+        &curve,
+        fam.shape_labels().to_vec(),
+        counter.load(Ordering::Relaxed) + 2,
+        |verdict| {
+            let mut reasons = Vec::new();
+            let mut nearest = Vec::new();
+            for l in verdict.failures() {
+                let (field, unit) = limit_field(l.limit);
+                reasons.push(format!(
+                    "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
+                    l.label, l.value, l.limit_value
+                ));
+                if l.value.is_finite() {
+                    nearest.push(Nearest {
+                        field,
+                        value: l.value,
+                        unit,
+                    });
+                }
             }
-        }
-        reasons.push(if spec.tune {
-            "tuning the control loads found no profile meeting every limit".into()
-        } else {
-            "the loads were used as written; set tune = true in [profile] to let the optimiser adjust them".into()
-        });
-        return Err(Infeasible {
-            shape: kind,
-            reasons,
-            nearest,
-        });
-    }
-    Ok(Design {
-        brief: brief.clone(),
-        shape_labels: fam.shape_labels().to_vec(),
-        best,
-        verification,
-        evaluations: counter.load(Ordering::Relaxed) + 2,
-    })
+            reasons.push(if spec.tune {
+                "tuning the control loads found no profile meeting every limit".into()
+            } else {
+                "the loads were used as written; set tune = true in [profile] to let the optimiser adjust them".into()
+            });
+            Infeasible {
+                shape: kind,
+                reasons,
+                nearest,
+            }
+        },
+    )
 }

@@ -16,13 +16,15 @@
 //! assert_eq!(brief.min_top_g, 0.2); // illustrative default
 //! ```
 
+pub mod limits_table;
+
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
 use crate::units::parse_speed_m_s;
 
 /// The demo brief shipped in `examples/demo-brief.toml` (an invented scenario).
-pub const DEMO_BRIEF_TOML: &str = include_str!("../examples/demo-brief.toml");
+pub const DEMO_BRIEF_TOML: &str = include_str!("../../examples/demo-brief.toml");
 
 /// Which shape family to design with.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Hash)]
@@ -270,6 +272,10 @@ pub struct Brief {
     pub lateral_shift_m: f64,
     /// Duration-based limit table (TOML) for the envelope check; `None`: the built-in ILLUSTRATIVE one.
     pub limits_file: Option<String>,
+    /// The table `limits_file` names, once read ([`Brief::with_limits_table`]): enforced by every
+    /// command. Not part of the brief's echo (the file name is).
+    #[serde(skip)]
+    pub limits_table: Option<limits_table::EnvelopeTable>,
     /// The target load profile (always present when `shape` is `profile`).
     pub profile: Option<ProfileSpec>,
 }
@@ -485,6 +491,7 @@ impl BriefInput {
             car_pitch_m,
             lateral_shift_m,
             limits_file,
+            limits_table: None,
             profile,
             name,
             title,
