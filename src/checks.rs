@@ -1,7 +1,7 @@
 //! Checks: the key figures of a ride and whether they meet the brief's limits.
 //!
 //! [`summarise`] reduces a centreline and its ride to the figures an engineer quotes (height,
-//! length, peak and top loads, onset); [`check`] compares them with [`Limits`] and gives a
+//! length, peak and top loads, onset); [`check`] compares them with the brief's [`limits`] and gives a
 //! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
 //!
 //! For a train, [`summarise_train`] gives each car's figures and a worst-car [`Summary`] (highest
@@ -11,34 +11,14 @@
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
 
 pub mod envelope;
+pub mod limits;
+
+pub use limits::{CheckLine, LimitKind, Verdict, check, limits_of, onset_for_limit};
 
 use serde::Serialize;
 
-use crate::brief::Brief;
 use crate::dynamics::{Ride, TrainRide};
 use crate::geometry::Centreline;
-
-/// The limits a design must meet.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct Limits {
-    pub max_g: f64,
-    pub min_top_g: f64,
-    pub max_onset_g_s: Option<f64>,
-    pub max_height_m: Option<f64>,
-    pub min_radius_m: f64,
-}
-
-impl From<&Brief> for Limits {
-    fn from(b: &Brief) -> Self {
-        Limits {
-            max_g: b.max_g,
-            min_top_g: b.min_top_g,
-            max_onset_g_s: b.max_onset_g_s,
-            max_height_m: b.max_height_m,
-            min_radius_m: b.min_radius_m,
-        }
-    }
-}
 
 /// Key figures of one design.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -168,119 +148,4 @@ pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<Ca
     w.exit_speed_m_s = rear.exit_speed_m_s;
     w.time_in_loop_s = rear.time_in_loop_s;
     (w, cars)
-}
-
-/// Which limit a check line is about.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum LimitKind {
-    MaxG,
-    MinTopG,
-    MaxOnset,
-    MaxHeight,
-    MinRadius,
-}
-
-/// One limit compared with the design's value.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct CheckLine {
-    pub limit: LimitKind,
-    pub label: String,
-    /// The design's value (infinite onset at a curvature step is written as null in JSON).
-    pub value: f64,
-    pub limit_value: f64,
-    pub unit: &'static str,
-    /// Positive inside the limit, negative outside.
-    pub margin: f64,
-    pub pass: bool,
-}
-
-/// All checks of one design.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Verdict {
-    pub lines: Vec<CheckLine>,
-    pub pass: bool,
-}
-
-impl Verdict {
-    /// The failing lines.
-    pub fn failures(&self) -> impl Iterator<Item = &CheckLine> {
-        self.lines.iter().filter(|l| !l.pass)
-    }
-}
-
-/// The design's onset figure for the onset limit: unbounded if the load steps anywhere.
-pub fn onset_for_limit(s: &Summary) -> f64 {
-    if s.max_load_step_g > 1e-9 {
-        f64::INFINITY
-    } else {
-        s.peak_onset_g_s
-    }
-}
-
-/// Compare a summary with limits.
-pub fn check(s: &Summary, limits: &Limits) -> Verdict {
-    let mut lines = Vec::new();
-    let mut line = |limit, label: &str, value: f64, limit_value: f64, unit, upper: bool| {
-        let margin = if upper {
-            limit_value - value
-        } else {
-            value - limit_value
-        };
-        lines.push(CheckLine {
-            limit,
-            label: label.into(),
-            value,
-            limit_value,
-            unit,
-            margin,
-            pass: margin >= 0.0,
-        });
-    };
-    line(
-        LimitKind::MaxG,
-        "peak normal load",
-        s.peak_normal_g,
-        limits.max_g,
-        "g",
-        true,
-    );
-    line(
-        LimitKind::MinTopG,
-        "normal load at the top",
-        s.top_normal_g,
-        limits.min_top_g,
-        "g",
-        false,
-    );
-    if let Some(max) = limits.max_onset_g_s {
-        line(
-            LimitKind::MaxOnset,
-            "peak onset",
-            onset_for_limit(s),
-            max,
-            "g/s",
-            true,
-        );
-    }
-    if let Some(max) = limits.max_height_m {
-        line(
-            LimitKind::MaxHeight,
-            "loop height (heartline)",
-            s.loop_height_m,
-            max,
-            "m",
-            true,
-        );
-    }
-    line(
-        LimitKind::MinRadius,
-        "smallest radius (heartline)",
-        s.min_radius_m,
-        limits.min_radius_m,
-        "m",
-        false,
-    );
-    let pass = lines.iter().all(|l| l.pass);
-    Verdict { lines, pass }
 }

@@ -24,7 +24,7 @@ use nalgebra::Vector3;
 
 use crate::brief::{Brief, ShapeKind};
 use crate::checks::envelope::{EnvelopeReport, EnvelopeTable, evaluate as evaluate_envelope};
-use crate::checks::{self, CarSummary, Limits, Summary, Verdict, summarise_train};
+use crate::checks::{self, CarSummary, Summary, Verdict, limits_of, summarise_train};
 use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
 use crate::geometry::Centreline;
 use crate::geometry::fit::{FitError, FitOptions, FitReport, PointsAre, fit_centreline};
@@ -279,7 +279,7 @@ pub fn evaluate(
     let train =
         simulate_train(&path, &conditions(brief), &train_of(brief)).map_err(EvalFailure::Stall)?;
     let (summary, cars) = summarise_train(&path, &train);
-    let verdict = checks::check(&summary, &Limits::from(brief));
+    let verdict = checks::check(&summary, &limits_of(brief));
     let ride = train.cars[0].clone();
     Ok(Evaluation {
         origin,

@@ -14,10 +14,10 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{
     Assessment, EvalFailure, Evaluation, Infeasible, Nearest, conclude, curve_of, eval_failure,
-    evaluate, family_for, limit_field,
+    evaluate, family_for,
 };
 use crate::brief::{Brief, Objective, ShapeKind};
-use crate::checks::onset_for_limit;
+use crate::checks::limits::{LimitKind, limits_of};
 
 /// Weight of a limit violation (per g, g/s or m) against the objective.
 const PENALTY: f64 = 1000.0;
@@ -54,20 +54,20 @@ impl ProfileCost<'_> {
         )
     }
 
-    /// Sum of limit violations (0 when every limit holds).
+    /// Sum of limit violations, each limit moved [`MARGIN`] inwards (0 when every limit holds;
+    /// an unbounded onset counts as 1000 g/s).
     fn violation(&self, e: &Evaluation) -> f64 {
-        let (b, s) = (self.brief, &e.summary);
-        let m = MARGIN;
-        let mut v = (s.peak_normal_g - b.max_g + m).max(0.0)
-            + (b.min_top_g + m - s.top_normal_g).max(0.0)
-            + (b.min_radius_m + m - s.min_radius_m).max(0.0);
-        if let Some(o) = b.max_onset_g_s {
-            v += (onset_for_limit(s) - o + m).clamp(0.0, 1e3);
-        }
-        if let Some(h) = b.max_height_m {
-            v += (s.loop_height_m - h + m).max(0.0);
-        }
-        v
+        limits_of(self.brief)
+            .iter()
+            .map(|l| {
+                let cap = if l.kind == LimitKind::MaxOnset {
+                    1e3
+                } else {
+                    f64::INFINITY
+                };
+                l.shortfall(l.kind.measure(&e.summary), MARGIN, cap)
+            })
+            .sum()
     }
 
     pub fn shape_cost(&self, p: &[f64]) -> f64 {
@@ -225,7 +225,7 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infe
             let mut reasons = Vec::new();
             let mut nearest = Vec::new();
             for l in verdict.failures() {
-                let (field, unit) = limit_field(l.limit);
+                let (field, unit) = (l.limit.field(), l.limit.unit());
                 reasons.push(format!(
                     "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
                     l.label, l.value, l.limit_value

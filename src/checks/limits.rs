@@ -1,0 +1,243 @@
+//! Limits as data: each of the brief's scalar limits is a [`Limit`] — which figure it bounds, from
+//! which side, its brief field and unit — with one signed margin. The verdict, the optimiser's
+//! search margins and penalties, and the infeasibility diagnosis all read limits through this
+//! module; no other module knows what a limit means.
+//!
+//! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
+//!
+//! ```
+//! use loopwright::checks::limits::{LimitKind, limits_of};
+//! let limits = limits_of(&loopwright::Brief::demo());
+//! let max_g = limits.iter().find(|l| l.kind == LimitKind::MaxG).unwrap();
+//! assert_eq!((max_g.kind.field(), max_g.value), ("max_g", 4.5));
+//! assert_eq!(max_g.margin(4.0), 0.5); // positive inside the limit
+//! ```
+
+use serde::Serialize;
+
+use super::Summary;
+use crate::brief::Brief;
+
+/// Which limit a check line is about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LimitKind {
+    MaxG,
+    MinTopG,
+    MaxOnset,
+    MaxHeight,
+    MinRadius,
+}
+
+/// Whether a limit caps its figure or sets a floor.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Bound {
+    AtMost,
+    AtLeast,
+}
+
+/// Which end of a loop's size range a limit bounds: loads fall as a loop of fixed shape grows, so
+/// the top-load floor and the height cap fail on big loops, the peak-load and onset caps and the
+/// radius floor on small ones.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Side {
+    /// Fails on big loops: top load, height (and a stall).
+    Upper,
+    /// Fails on small loops: peak load, onset, radius.
+    Lower,
+}
+
+/// The onset limit keeps this fraction of itself in hand during the search: onset comes from
+/// differences of the load, so it moves more than the loads when the sampling is refined, and the
+/// verification at a quarter of the spacing must not tip it over.
+const ONSET_SEARCH_SCALE: f64 = 0.995;
+/// A search margin never goes below this: an unbounded onset (curvature step) must still give the
+/// root finder a finite, clearly negative value.
+const SEARCH_MARGIN_FLOOR: f64 = -1e3;
+
+impl LimitKind {
+    /// The brief field that sets it.
+    pub fn field(self) -> &'static str {
+        match self {
+            LimitKind::MaxG => "max_g",
+            LimitKind::MinTopG => "min_top_g",
+            LimitKind::MaxOnset => "max_onset_g_s",
+            LimitKind::MaxHeight => "max_height_m",
+            LimitKind::MinRadius => "min_radius_m",
+        }
+    }
+
+    pub fn unit(self) -> &'static str {
+        match self {
+            LimitKind::MaxG | LimitKind::MinTopG => "g",
+            LimitKind::MaxOnset => "g/s",
+            LimitKind::MaxHeight | LimitKind::MinRadius => "m",
+        }
+    }
+
+    /// What the figure is, for reports.
+    pub fn label(self) -> &'static str {
+        match self {
+            LimitKind::MaxG => "peak normal load",
+            LimitKind::MinTopG => "normal load at the top",
+            LimitKind::MaxOnset => "peak onset",
+            LimitKind::MaxHeight => "loop height (heartline)",
+            LimitKind::MinRadius => "smallest radius (heartline)",
+        }
+    }
+
+    pub fn bound(self) -> Bound {
+        match self {
+            LimitKind::MaxG | LimitKind::MaxOnset | LimitKind::MaxHeight => Bound::AtMost,
+            LimitKind::MinTopG | LimitKind::MinRadius => Bound::AtLeast,
+        }
+    }
+
+    pub fn side(self) -> Side {
+        match self {
+            LimitKind::MinTopG | LimitKind::MaxHeight => Side::Upper,
+            LimitKind::MaxG | LimitKind::MaxOnset | LimitKind::MinRadius => Side::Lower,
+        }
+    }
+
+    /// The design's figure this limit bounds (an onset is unbounded where the load steps).
+    pub fn measure(self, s: &Summary) -> f64 {
+        match self {
+            LimitKind::MaxG => s.peak_normal_g,
+            LimitKind::MinTopG => s.top_normal_g,
+            LimitKind::MaxOnset => onset_for_limit(s),
+            LimitKind::MaxHeight => s.loop_height_m,
+            LimitKind::MinRadius => s.min_radius_m,
+        }
+    }
+}
+
+/// The design's onset figure for the onset limit: unbounded if the load steps anywhere.
+pub fn onset_for_limit(s: &Summary) -> f64 {
+    if s.max_load_step_g > 1e-9 {
+        f64::INFINITY
+    } else {
+        s.peak_onset_g_s
+    }
+}
+
+/// One limit of a brief.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Limit {
+    pub kind: LimitKind,
+    /// The limit's value, in the kind's unit.
+    pub value: f64,
+}
+
+impl Limit {
+    /// Signed margin of a measured figure: positive inside the limit, negative outside.
+    pub fn margin(&self, measured: f64) -> f64 {
+        match self.kind.bound() {
+            Bound::AtMost => self.value - measured,
+            Bound::AtLeast => measured - self.value,
+        }
+    }
+
+    /// The margin the size search works with: the onset limit keeps 0.5 % of itself in hand,
+    /// and no margin falls below a finite floor (see the constants).
+    pub fn search_margin(&self, measured: f64) -> f64 {
+        match self.kind {
+            LimitKind::MaxOnset => {
+                (ONSET_SEARCH_SCALE * self.value - measured).max(SEARCH_MARGIN_FLOOR)
+            }
+            _ => self.margin(measured),
+        }
+    }
+
+    /// How far a figure is outside the limit moved `reserve` inwards (0 when inside), for soft
+    /// penalties; an unbounded onset counts as `cap`.
+    pub fn shortfall(&self, measured: f64, reserve: f64, cap: f64) -> f64 {
+        let over = match self.kind.bound() {
+            Bound::AtMost => measured - self.value + reserve,
+            Bound::AtLeast => self.value + reserve - measured,
+        };
+        over.clamp(0.0, cap)
+    }
+}
+
+/// Every scalar limit of a brief, in report order (peak load, top load, onset, height, radius);
+/// the optional ones only when set.
+pub fn limits_of(b: &Brief) -> Vec<Limit> {
+    let mut v = vec![
+        Limit {
+            kind: LimitKind::MaxG,
+            value: b.max_g,
+        },
+        Limit {
+            kind: LimitKind::MinTopG,
+            value: b.min_top_g,
+        },
+    ];
+    if let Some(o) = b.max_onset_g_s {
+        v.push(Limit {
+            kind: LimitKind::MaxOnset,
+            value: o,
+        });
+    }
+    if let Some(h) = b.max_height_m {
+        v.push(Limit {
+            kind: LimitKind::MaxHeight,
+            value: h,
+        });
+    }
+    v.push(Limit {
+        kind: LimitKind::MinRadius,
+        value: b.min_radius_m,
+    });
+    v
+}
+
+/// One limit compared with the design's value.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CheckLine {
+    pub limit: LimitKind,
+    pub label: String,
+    /// The design's value (infinite onset at a curvature step is written as null in JSON).
+    pub value: f64,
+    pub limit_value: f64,
+    pub unit: &'static str,
+    /// Positive inside the limit, negative outside.
+    pub margin: f64,
+    pub pass: bool,
+}
+
+/// All checks of one design.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Verdict {
+    pub lines: Vec<CheckLine>,
+    pub pass: bool,
+}
+
+impl Verdict {
+    /// The failing lines.
+    pub fn failures(&self) -> impl Iterator<Item = &CheckLine> {
+        self.lines.iter().filter(|l| !l.pass)
+    }
+}
+
+/// Compare a summary with limits.
+pub fn check(s: &Summary, limits: &[Limit]) -> Verdict {
+    let lines: Vec<CheckLine> = limits
+        .iter()
+        .map(|l| {
+            let value = l.kind.measure(s);
+            let margin = l.margin(value);
+            CheckLine {
+                limit: l.kind,
+                label: l.kind.label().into(),
+                value,
+                limit_value: l.value,
+                unit: l.kind.unit(),
+                margin,
+                pass: margin >= 0.0,
+            }
+        })
+        .collect();
+    let pass = lines.iter().all(|l| l.pass);
+    Verdict { lines, pass }
+}

@@ -1,0 +1,255 @@
+//! The shape problem: the objective over a family's dimensionless shape parameters, and its
+//! search. For `tallest`, minus the height at the upper size bound; for a target height, the peak
+//! load at the size giving that height. argmin's `BrentOpt` runs it for one parameter,
+//! `NelderMead` for several.
+
+use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
+use argmin::solver::brent::BrentOpt;
+use argmin::solver::neldermead::NelderMead;
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+use super::size::{SizeRange, size_range};
+use super::{
+    COARSE_STATIONS_PER_RADIUS, EvalFailure, SCAN, SIZE_SLACK, evaluate, evaluate_shifted,
+    height_per_radius,
+};
+use crate::brief::{Brief, Objective, ShapeKind};
+use crate::checks::limits::{LimitKind, limits_of};
+use crate::shape::{ShapeFamily, family};
+
+/// Costs of shapes without a usable answer, ordered so that the search moves from the worst
+/// towards feasibility: every feasible shape costs less than [`COST_INFEASIBLE`] (minus its height
+/// in metres, or its peak load in g); a shape whose size window is empty costs that plus the log
+/// of the gap; one that stalls, one with no size at all and one outside its bounds or making no
+/// loop cost more, in that order.
+pub const COST_INFEASIBLE: f64 = 1e3;
+pub const COST_STALL: f64 = 1e4;
+pub const COST_NO_SIZE: f64 = 1e5;
+pub const COST_UNUSABLE: f64 = 1e6;
+
+/// Problem: the objective over a family's dimensionless shape parameters.
+pub struct ShapeCost<'a> {
+    pub brief: &'a Brief,
+    pub kind: ShapeKind,
+    pub counter: &'a AtomicUsize,
+}
+
+impl ShapeCost<'_> {
+    fn in_bounds(&self, shape: &[f64]) -> bool {
+        family(self.kind)
+            .shape_bounds()
+            .iter()
+            .zip(shape)
+            .all(|((lo, hi), v)| v >= lo && v <= hi)
+    }
+
+    /// Cost of a shape: lower is better; feasible shapes cost below [`COST_INFEASIBLE`].
+    pub fn shape_cost(&self, shape: &[f64]) -> f64 {
+        if !self.in_bounds(shape) {
+            return COST_UNUSABLE;
+        }
+        match self.brief.objective {
+            Objective::Tallest => {
+                match size_range(self.brief, self.kind, shape, false, self.counter) {
+                    // The coarse search is planar and coarse; at full fidelity the size window
+                    // moves by a few tenths of a percent (the shift lowers the top load a little).
+                    // A shape counts as feasible only with SIZE_SLACK of window to spare, so the
+                    // search does not settle in a corner where two limits meet and the full model
+                    // then finds no size at all.
+                    SizeRange::Feasible { lo_m, hi_m } if hi_m < lo_m * (1.0 + SIZE_SLACK) => {
+                        COST_INFEASIBLE + (lo_m * (1.0 + SIZE_SLACK) / hi_m).ln()
+                    }
+                    SizeRange::Feasible { hi_m, .. } => {
+                        let h = height_per_radius(self.kind, shape).unwrap_or(0.0) * hi_m;
+                        let h = self.brief.max_height_m.map_or(h, |m| h.min(m));
+                        // Among equally tall loops (height capped), prefer the lower peak load.
+                        let peak = match evaluate_shifted(
+                            self.brief,
+                            self.kind,
+                            shape,
+                            hi_m,
+                            self.brief.spacing_m.max(hi_m / COARSE_STATIONS_PER_RADIUS),
+                            0.0,
+                        ) {
+                            Ok(e) => e.summary.peak_normal_g,
+                            Err(_) => 0.0,
+                        };
+                        -h + 1e-3 * peak
+                    }
+                    SizeRange::Gap { lo_m, hi_m } => COST_INFEASIBLE + (lo_m / hi_m).ln(),
+                    SizeRange::UpperFailsEverywhere | SizeRange::LowerFailsEverywhere { .. } => {
+                        COST_NO_SIZE
+                    }
+                }
+            }
+            Objective::Height { height_m } => {
+                let Some(h1) = height_per_radius(self.kind, shape) else {
+                    return COST_UNUSABLE;
+                };
+                let r = height_m / h1;
+                self.counter.fetch_add(1, Ordering::Relaxed);
+                match evaluate(
+                    self.brief,
+                    self.kind,
+                    shape,
+                    r,
+                    self.brief.spacing_m.max(r / COARSE_STATIONS_PER_RADIUS),
+                ) {
+                    Ok(e) => {
+                        // The peak load is the objective; the other limits are soft penalties
+                        // (an unbounded onset counts as 1000 g/s).
+                        let s = &e.summary;
+                        let limits = limits_of(self.brief);
+                        let short = |kind: LimitKind, cap: f64| -> f64 {
+                            limits
+                                .iter()
+                                .filter(|l| l.kind == kind)
+                                .map(|l| l.shortfall(kind.measure(s), 0.0, cap))
+                                .sum()
+                        };
+                        let penalty = short(LimitKind::MinTopG, f64::INFINITY)
+                            + short(LimitKind::MinRadius, f64::INFINITY)
+                            + short(LimitKind::MaxOnset, 1e3);
+                        s.peak_normal_g + 100.0 * penalty
+                    }
+                    Err(EvalFailure::Stall(_)) => COST_STALL,
+                    Err(_) => COST_UNUSABLE,
+                }
+            }
+        }
+    }
+}
+
+impl CostFunction for ShapeCost<'_> {
+    type Param = Vec<f64>;
+    type Output = f64;
+    fn cost(&self, p: &Vec<f64>) -> Result<f64, ArgminError> {
+        Ok(self.shape_cost(p))
+    }
+}
+
+/// [`ShapeCost`] that remembers every shape it has costed: the scan, the solver and the final
+/// comparison ask for some shapes more than once, and a shape's cost never changes.
+struct MemoShapeCost<'a> {
+    inner: ShapeCost<'a>,
+    seen: std::cell::RefCell<Vec<(Vec<f64>, f64)>>,
+}
+
+impl<'a> MemoShapeCost<'a> {
+    fn new(inner: ShapeCost<'a>) -> Self {
+        Self {
+            inner,
+            seen: std::cell::RefCell::new(Vec::new()),
+        }
+    }
+    fn shape_cost(&self, shape: &[f64]) -> f64 {
+        if let Some((_, c)) = self
+            .seen
+            .borrow()
+            .iter()
+            .find(|(s, _)| s.as_slice() == shape)
+        {
+            return *c;
+        }
+        let c = self.inner.shape_cost(shape);
+        self.seen.borrow_mut().push((shape.to_vec(), c));
+        c
+    }
+}
+
+impl CostFunction for MemoShapeCost<'_> {
+    type Param = Vec<f64>;
+    type Output = f64;
+    fn cost(&self, p: &Vec<f64>) -> Result<f64, ArgminError> {
+        Ok(self.shape_cost(p))
+    }
+}
+
+/// One-parameter view of [`ShapeCost`] for argmin's `BrentOpt`.
+struct ShapeCost1<'a, 'b>(&'b MemoShapeCost<'a>);
+
+impl CostFunction for ShapeCost1<'_, '_> {
+    type Param = f64;
+    type Output = f64;
+    fn cost(&self, p: &f64) -> Result<f64, ArgminError> {
+        Ok(self.0.shape_cost(&[*p]))
+    }
+}
+
+/// Best shape parameters found by the outer search.
+pub(crate) fn search_shape(
+    brief: &Brief,
+    fam: &dyn ShapeFamily,
+    counter: &AtomicUsize,
+) -> Vec<f64> {
+    let bounds = fam.shape_bounds();
+    let problem = MemoShapeCost::new(ShapeCost {
+        brief,
+        kind: fam.kind(),
+        counter,
+    });
+    match bounds.len() {
+        0 => Vec::new(),
+        1 => {
+            let (lo, hi) = bounds[0];
+            // A coarse scan first: the cost may have plateaus (height capped) where Brent alone wanders.
+            let scan: Vec<f64> = (0..=SCAN)
+                .map(|i| lo + (hi - lo) * i as f64 / SCAN as f64)
+                .collect();
+            let best = scan
+                .iter()
+                .copied()
+                .min_by(|a, b| {
+                    problem
+                        .shape_cost(&[*a])
+                        .total_cmp(&problem.shape_cost(&[*b]))
+                })
+                .unwrap_or(lo);
+            let step = (hi - lo) / SCAN as f64;
+            // An optimum on a bound (common: the pointiest teardrop is the tallest) is confirmed by
+            // one probe just inside it; Brent would otherwise creep towards the bound in golden steps.
+            if best == lo || best == hi {
+                let inside = if best == lo {
+                    lo + 1e-3 * (hi - lo)
+                } else {
+                    hi - 1e-3 * (hi - lo)
+                };
+                if problem.shape_cost(&[best]) <= problem.shape_cost(&[inside]) {
+                    return vec![best];
+                }
+            }
+            let (a, b) = ((best - step).max(lo), (best + step).min(hi));
+            let solver = BrentOpt::new(a, b).set_tolerance(1e-3, 1e-4);
+            let found = Executor::new(ShapeCost1(&problem), solver)
+                .configure(|s| s.max_iters(20))
+                .run()
+                .ok()
+                .and_then(|r| r.state().get_best_param().copied())
+                .unwrap_or(best);
+            if problem.shape_cost(&[found]) <= problem.shape_cost(&[best]) {
+                vec![found]
+            } else {
+                vec![best]
+            }
+        }
+        _ => {
+            let x0 = fam.default_shape();
+            let mut simplex = vec![x0.clone()];
+            for i in 0..x0.len() {
+                let mut v = x0.clone();
+                let (lo, hi) = bounds[i];
+                v[i] = (v[i] + 0.15 * (hi - lo)).min(hi);
+                simplex.push(v);
+            }
+            let solver = NelderMead::new(simplex)
+                .with_sd_tolerance(1e-6)
+                .expect("positive tolerance");
+            Executor::new(problem, solver)
+                .configure(|s| s.max_iters(80))
+                .run()
+                .ok()
+                .and_then(|r| r.state().get_best_param().cloned())
+                .unwrap_or(x0)
+        }
+    }
+}
