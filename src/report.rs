@@ -1,6 +1,7 @@
 //! Report: the caution every output carries and the terminal summary of a design.
 
 use crate::checks::{CheckLine, Summary};
+use crate::compare::{Comparison, Entry, KeyFigures};
 use crate::model::{Assessment, Origin};
 use crate::optimiser::Infeasible;
 use crate::units::describe_speed;
@@ -241,4 +242,64 @@ fn check_lines(out: &mut String, lines: &[CheckLine]) {
 /// The message for an infeasible brief.
 pub fn infeasible_message(e: &Infeasible) -> String {
     format!("{e}.\n{CAUTION}\n")
+}
+
+/// The side-by-side table for a terminal: one column per family.
+pub fn compare_table(c: &Comparison) -> String {
+    let figures: Vec<Result<KeyFigures, String>> = c.entries.iter().map(Entry::figures).collect();
+    let mut out = format!("loopwright compare: {}\n", c.brief.title);
+    out.push_str(&format!("  {:<30}", ""));
+    for e in &c.entries {
+        out.push_str(&format!(" {:>14}", e.kind.name()));
+    }
+    out.push('\n');
+    type Cell = fn(&KeyFigures) -> String;
+    let rows: [(&str, Cell); 9] = [
+        ("loop height (heartline), m", |f| {
+            format!("{:.2}", f.loop_height_m)
+        }),
+        ("path length in loop, m", |f| {
+            format!("{:.2}", f.path_length_m)
+        }),
+        ("top radius, m", |f| format!("{:.2}", f.top_radius_m)),
+        ("peak normal load, g", |f| format!("{:.3}", f.peak_normal_g)),
+        ("normal load at the top, g", |f| {
+            format!("{:.3}", f.top_normal_g)
+        }),
+        ("speed at the top, m/s", |f| {
+            format!("{:.2}", f.top_speed_m_s)
+        }),
+        ("peak onset (smooth track), g/s", |f| {
+            format!("{:.2}", f.peak_onset_g_s)
+        }),
+        ("load step (unbounded onset), g", |f| {
+            if f.onset_unbounded() {
+                format!("{:.3}", f.max_load_step_g)
+            } else {
+                "none".into()
+            }
+        }),
+        ("time in loop, s", |f| format!("{:.2}", f.time_in_loop_s)),
+    ];
+    for (label, cell) in rows {
+        out.push_str(&format!("  {label:<30}"));
+        for f in &figures {
+            let text = f.as_ref().map_or_else(|_| "-".to_string(), cell);
+            out.push_str(&format!(" {text:>14}"));
+        }
+        out.push('\n');
+    }
+    out.push_str(&format!("  {:<30}", "feasible"));
+    for f in &figures {
+        out.push_str(&format!(" {:>14}", if f.is_ok() { "yes" } else { "NO" }));
+    }
+    out.push('\n');
+    for (e, f) in c.entries.iter().zip(&figures) {
+        if let Err(why) = f {
+            out.push_str(&format!("  {}: {why}\n", e.kind));
+        }
+    }
+    out.push_str(CAUTION);
+    out.push('\n');
+    out
 }

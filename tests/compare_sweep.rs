@@ -108,7 +108,7 @@ fn circle_below_six_plus_top_is_reported_infeasible_and_others_still_run() {
         );
     }
     // The table, CSV and JSON keep the circle with its reason.
-    let table = loopwright::compare::terminal_table(&c);
+    let table = loopwright::report::compare_table(&c);
     assert!(
         table.contains("circle: no circle loop meets the brief") && table.contains("6 + n_top"),
         "{table}"

@@ -12,8 +12,9 @@ use std::time::Instant;
 
 use super::{BriefArgs, CliError};
 use crate::brief::{BriefInput, DEMO_BRIEF_TOML, ShapeKind};
-use crate::compare::{compare, terminal_table};
+use crate::compare::compare;
 use crate::export::{ExportError, overlay, study, write_atomic};
+use crate::report::compare_table;
 use crate::sweep::{self, AxisText, Shard, SweepInput, SweepSpec};
 
 #[derive(Debug, Clone, Args)]
@@ -118,7 +119,7 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     let text = if args.quiet {
         String::new()
     } else {
-        format!("{}{}", terminal_table(&c), wrote(&written))
+        format!("{}{}", compare_table(&c), wrote(&written))
     };
     if c.feasible_count() == 0 {
         // Nothing meets the brief: still show the table (it says why, family by family).
