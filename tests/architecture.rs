@@ -76,14 +76,12 @@ fn no_module_uses_a_later_stage() {
                     .chars()
                     .take_while(|c| c.is_ascii_alphanumeric() || *c == '_')
                     .collect();
-                if let Some(r) = rank(&used) {
-                    if r > my_rank {
-                        bad.push(format!(
-                            "{}:{} {me} uses later stage {used}",
-                            f.display(),
-                            n + 1
-                        ));
-                    }
+                if rank(&used).is_some_and(|r| r > my_rank) {
+                    bad.push(format!(
+                        "{}:{} {me} uses later stage {used}",
+                        f.display(),
+                        n + 1
+                    ));
                 }
             }
         }
