@@ -308,6 +308,8 @@ pub struct Assessment {
     pub verification: Evaluation,
     /// How many loops the search evaluated (0 when nothing was searched).
     pub evaluations: usize,
+    /// Why the shape search stopped (`None` when nothing was searched).
+    pub search_stopped: Option<String>,
 }
 
 impl Assessment {
@@ -372,6 +374,7 @@ pub fn assess(
         best,
         verification,
         evaluations,
+        search_stopped: None,
     })
 }
 

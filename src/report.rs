@@ -52,6 +52,13 @@ pub fn terminal_summary(d: &Assessment) -> String {
             .collect();
         row(&mut out, "shape parameters", p.join(", "));
     }
+    if let Some(why) = &d.search_stopped {
+        row(
+            &mut out,
+            "search",
+            format!("{} loops evaluated; {why}", d.evaluations),
+        );
+    }
     out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
     check_lines(&mut out, &d.verification.verdict.lines);
     out.push_str(&train_and_envelope(d));

@@ -456,6 +456,7 @@ pub(crate) mod tests {
             verification: best.clone(),
             best,
             evaluations: 1,
+            search_stopped: None,
         }
     }
 

@@ -6,7 +6,7 @@ use std::fmt;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::shape::search_shape;
-use super::size::{SizeRange, radius_grid, size_range};
+use super::size::{SizeRange, SolverFailure, radius_grid, size_range};
 use super::{EvalFailure, design_family, evaluate, height_per_radius};
 use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::limits::{Bound, Side, limits_of};
@@ -56,6 +56,16 @@ impl fmt::Display for Infeasible {
 }
 
 impl std::error::Error for Infeasible {}
+
+/// A solver that stopped without an answer, as the reason a family has no design.
+pub(crate) fn solver_failure(kind: ShapeKind, e: SolverFailure) -> Infeasible {
+    shape_failure(
+        kind,
+        &format!(
+            "{e}; try a coarser --spacing or relax a limit, and report the brief if it persists"
+        ),
+    )
+}
 
 pub(crate) fn shape_failure(kind: ShapeKind, msg: &str) -> Infeasible {
     Infeasible {
@@ -194,7 +204,10 @@ fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -
 fn design_family_quiet(brief: &Brief, kind: ShapeKind) -> bool {
     let counter = AtomicUsize::new(0);
     let fam = family(kind);
-    let shape = search_shape(brief, fam.as_ref(), &counter);
+    let Ok(search) = search_shape(brief, fam.as_ref(), &counter) else {
+        return false; // a solver failure is not a feasible design
+    };
+    let shape = search.shape;
     let Objective::Height { height_m } = brief.objective else {
         return false;
     };
@@ -272,7 +285,7 @@ pub(crate) fn explain_tallest(
         b.entry_speed_m_s = v;
         matches!(
             size_range(&b, kind, shape, true, counter),
-            SizeRange::Feasible { .. }
+            Ok(SizeRange::Feasible { .. })
         )
     };
     if !matches!(range, SizeRange::LowerFailsEverywhere { .. }) && !ok(brief.entry_speed_m_s) {

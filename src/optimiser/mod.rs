@@ -24,9 +24,12 @@ mod size;
 
 pub use crate::model::{Assessment, EvalFailure, Evaluation, conditions, train_of};
 pub use diagnosis::{Infeasible, Nearest};
-pub(crate) use diagnosis::{eval_failure, explain_failed_checks, explain_tallest, shape_failure};
+pub(crate) use diagnosis::{
+    eval_failure, explain_failed_checks, explain_tallest, shape_failure, solver_failure,
+};
 pub use force_first::ProfileCost;
 pub use shape::ShapeCost;
+pub use size::SolverFailure;
 pub use size::{SizeMargin, SizeRange, size_range};
 
 use std::f64::consts::PI;
@@ -170,11 +173,15 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infea
     }
     let fam = family(kind);
     let counter = AtomicUsize::new(0);
-    let shape = shape::search_shape(brief, fam.as_ref(), &counter);
+    let failed = |e: size::SolverFailure| solver_failure(kind, e);
+    let search = shape::search_shape(brief, fam.as_ref(), &counter).map_err(failed)?;
+    let shape = search.shape;
     let r = match brief.objective {
-        Objective::Tallest => match size::polish_upper(brief, kind, &shape, &counter) {
+        Objective::Tallest => match size::polish_upper(brief, kind, &shape, &counter)
+            .map_err(failed)?
+        {
             Some(r) => r,
-            None => match size_range(brief, kind, &shape, true, &counter) {
+            None => match size_range(brief, kind, &shape, true, &counter).map_err(failed)? {
                 SizeRange::Feasible { hi_m, .. } => hi_m,
                 // The search can settle where two limits meet (say the top load and the smallest
                 // radius); the search margin then leaves a sliver of a gap. The midpoint may still
@@ -190,14 +197,16 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infea
         }
     };
     let curve = curve_of(brief, kind, &shape, r).map_err(|e| eval_failure(brief, kind, e))?;
-    conclude(
+    let mut a = conclude(
         brief,
         kind,
         &curve,
         fam.shape_labels().to_vec(),
         counter.load(Ordering::Relaxed),
         |v| explain_failed_checks(brief, kind, v, &counter),
-    )
+    )?;
+    a.search_stopped = Some(search.stopped);
+    Ok(a)
 }
 
 /// Assess the chosen loop with the model (brief's spacing, a quarter of it, the envelope) and

@@ -8,7 +8,7 @@ use argmin::solver::brent::BrentOpt;
 use argmin::solver::neldermead::NelderMead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use super::size::{SizeRange, size_range};
+use super::size::{SizeRange, SolverFailure, size_range};
 use super::{
     COARSE_STATIONS_PER_RADIUS, EvalFailure, SCAN, SIZE_SLACK, evaluate, evaluate_shifted,
     height_per_radius,
@@ -43,14 +43,15 @@ impl ShapeCost<'_> {
             .all(|((lo, hi), v)| v >= lo && v <= hi)
     }
 
-    /// Cost of a shape: lower is better; feasible shapes cost below [`COST_INFEASIBLE`].
-    pub fn shape_cost(&self, shape: &[f64]) -> f64 {
+    /// Cost of a shape: lower is better; feasible shapes cost below [`COST_INFEASIBLE`]. The size
+    /// search inside can fail only as a solver ([`SolverFailure`]), never silently.
+    pub fn shape_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
         if !self.in_bounds(shape) {
-            return COST_UNUSABLE;
+            return Ok(COST_UNUSABLE);
         }
-        match self.brief.objective {
+        Ok(match self.brief.objective {
             Objective::Tallest => {
-                match size_range(self.brief, self.kind, shape, false, self.counter) {
+                match size_range(self.brief, self.kind, shape, false, self.counter)? {
                     // The coarse search is planar and coarse; at full fidelity the size window
                     // moves by a few tenths of a percent (the shift lowers the top load a little).
                     // A shape counts as feasible only with SIZE_SLACK of window to spare, so the
@@ -84,7 +85,7 @@ impl ShapeCost<'_> {
             }
             Objective::Height { height_m } => {
                 let Some(h1) = height_per_radius(self.kind, shape) else {
-                    return COST_UNUSABLE;
+                    return Ok(COST_UNUSABLE);
                 };
                 let r = height_m / h1;
                 self.counter.fetch_add(1, Ordering::Relaxed);
@@ -116,7 +117,7 @@ impl ShapeCost<'_> {
                     Err(_) => COST_UNUSABLE,
                 }
             }
-        }
+        })
     }
 }
 
@@ -124,15 +125,18 @@ impl CostFunction for ShapeCost<'_> {
     type Param = Vec<f64>;
     type Output = f64;
     fn cost(&self, p: &Vec<f64>) -> Result<f64, ArgminError> {
-        Ok(self.shape_cost(p))
+        self.shape_cost(p).map_err(ArgminError::new)
     }
 }
+
+/// A shape's cost, or the solver failure that stopped its size search.
+type ShapeCostResult = Result<f64, SolverFailure>;
 
 /// [`ShapeCost`] that remembers every shape it has costed: the scan, the solver and the final
 /// comparison ask for some shapes more than once, and a shape's cost never changes.
 struct MemoShapeCost<'a> {
     inner: ShapeCost<'a>,
-    seen: std::cell::RefCell<Vec<(Vec<f64>, f64)>>,
+    seen: std::cell::RefCell<Vec<(Vec<f64>, ShapeCostResult)>>,
 }
 
 impl<'a> MemoShapeCost<'a> {
@@ -142,17 +146,17 @@ impl<'a> MemoShapeCost<'a> {
             seen: std::cell::RefCell::new(Vec::new()),
         }
     }
-    fn shape_cost(&self, shape: &[f64]) -> f64 {
+    fn shape_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
         if let Some((_, c)) = self
             .seen
             .borrow()
             .iter()
             .find(|(s, _)| s.as_slice() == shape)
         {
-            return *c;
+            return c.clone();
         }
         let c = self.inner.shape_cost(shape);
-        self.seen.borrow_mut().push((shape.to_vec(), c));
+        self.seen.borrow_mut().push((shape.to_vec(), c.clone()));
         c
     }
 }
@@ -161,7 +165,7 @@ impl CostFunction for MemoShapeCost<'_> {
     type Param = Vec<f64>;
     type Output = f64;
     fn cost(&self, p: &Vec<f64>) -> Result<f64, ArgminError> {
-        Ok(self.shape_cost(p))
+        self.shape_cost(p).map_err(ArgminError::new)
     }
 }
 
@@ -172,8 +176,25 @@ impl CostFunction for ShapeCost1<'_, '_> {
     type Param = f64;
     type Output = f64;
     fn cost(&self, p: &f64) -> Result<f64, ArgminError> {
-        Ok(self.0.shape_cost(&[*p]))
+        self.0.shape_cost(&[*p]).map_err(ArgminError::new)
     }
+}
+
+/// A solver's error as a [`SolverFailure`]: the size search's own failure when that is what
+/// stopped it (it travels through argmin's error type), else argmin's error, named.
+fn solver_error(solver: &'static str, e: ArgminError) -> SolverFailure {
+    match e.downcast::<SolverFailure>() {
+        Ok(inner) => inner,
+        Err(e) => SolverFailure::argmin(solver, e),
+    }
+}
+
+/// The shape search's answer and why it stopped.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShapeSearch {
+    pub shape: Vec<f64>,
+    /// How the search ended, for reports ("scan: optimum on a bound", argmin's termination text).
+    pub stopped: String,
 }
 
 /// Best shape parameters found by the outer search.
@@ -181,30 +202,34 @@ pub(crate) fn search_shape(
     brief: &Brief,
     fam: &dyn ShapeFamily,
     counter: &AtomicUsize,
-) -> Vec<f64> {
+) -> Result<ShapeSearch, SolverFailure> {
     let bounds = fam.shape_bounds();
     let problem = MemoShapeCost::new(ShapeCost {
         brief,
         kind: fam.kind(),
         counter,
     });
+    let done = |shape: Vec<f64>, stopped: &str| {
+        Ok(ShapeSearch {
+            shape,
+            stopped: stopped.to_string(),
+        })
+    };
     match bounds.len() {
-        0 => Vec::new(),
+        0 => done(Vec::new(), "no shape parameters"),
         1 => {
             let (lo, hi) = bounds[0];
             // A coarse scan first: the cost may have plateaus (height capped) where Brent alone wanders.
-            let scan: Vec<f64> = (0..=SCAN)
-                .map(|i| lo + (hi - lo) * i as f64 / SCAN as f64)
-                .collect();
-            let best = scan
-                .iter()
-                .copied()
-                .min_by(|a, b| {
-                    problem
-                        .shape_cost(&[*a])
-                        .total_cmp(&problem.shape_cost(&[*b]))
-                })
-                .unwrap_or(lo);
+            let mut best = lo;
+            let mut best_cost = f64::INFINITY;
+            for i in 0..=SCAN {
+                let x = lo + (hi - lo) * i as f64 / SCAN as f64;
+                let c = problem.shape_cost(&[x])?;
+                // The first of equal costs wins, as a minimum over the scan in order.
+                if c < best_cost {
+                    (best, best_cost) = (x, c);
+                }
+            }
             let step = (hi - lo) / SCAN as f64;
             // An optimum on a bound (common: the pointiest teardrop is the tallest) is confirmed by
             // one probe just inside it; Brent would otherwise creep towards the bound in golden steps.
@@ -214,22 +239,32 @@ pub(crate) fn search_shape(
                 } else {
                     hi - 1e-3 * (hi - lo)
                 };
-                if problem.shape_cost(&[best]) <= problem.shape_cost(&[inside]) {
-                    return vec![best];
+                if best_cost <= problem.shape_cost(&[inside])? {
+                    return done(
+                        vec![best],
+                        "scan: optimum on a bound, confirmed by a probe inside",
+                    );
                 }
             }
             let (a, b) = ((best - step).max(lo), (best + step).min(hi));
             let solver = BrentOpt::new(a, b).set_tolerance(1e-3, 1e-4);
-            let found = Executor::new(ShapeCost1(&problem), solver)
+            let res = Executor::new(ShapeCost1(&problem), solver)
                 .configure(|s| s.max_iters(20))
                 .run()
-                .ok()
-                .and_then(|r| r.state().get_best_param().copied())
-                .unwrap_or(best);
-            if problem.shape_cost(&[found]) <= problem.shape_cost(&[best]) {
-                vec![found]
+                .map_err(|e| solver_error("shape search (Brent)", e))?;
+            let state = res.state();
+            let stopped = state
+                .get_termination_reason()
+                .map_or("no termination reason", |r| r.text())
+                .to_string();
+            let found = state.get_best_param().copied().unwrap_or(best);
+            if problem.shape_cost(&[found])? <= best_cost {
+                done(vec![found], &format!("Brent: {stopped}"))
             } else {
-                vec![best]
+                done(
+                    vec![best],
+                    &format!("Brent: {stopped}; the scan's best kept"),
+                )
             }
         }
         _ => {
@@ -243,13 +278,23 @@ pub(crate) fn search_shape(
             }
             let solver = NelderMead::new(simplex)
                 .with_sd_tolerance(1e-6)
-                .expect("positive tolerance");
-            Executor::new(problem, solver)
+                .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
+            let res = Executor::new(problem, solver)
                 .configure(|s| s.max_iters(80))
                 .run()
-                .ok()
-                .and_then(|r| r.state().get_best_param().cloned())
-                .unwrap_or(x0)
+                .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
+            let state = res.state();
+            let stopped = state
+                .get_termination_reason()
+                .map_or("no termination reason", |r| r.text())
+                .to_string();
+            match state.get_best_param() {
+                Some(p) => done(p.clone(), &format!("Nelder-Mead: {stopped}")),
+                None => Err(SolverFailure {
+                    solver: "shape search (Nelder-Mead)",
+                    reason: stopped,
+                }),
+            }
         }
     }
 }

@@ -6,7 +6,7 @@
 //! upper size bound and those that fail on small loops (peak load, onset, radius) a lower one.
 //! argmin's `BrentRoot` finds each bound.
 
-use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
+use argmin::core::{CostFunction, Error as ArgminError, Executor, State, TerminationReason};
 use argmin::solver::brent::BrentRoot;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
@@ -76,19 +76,39 @@ impl CostFunction for SizeMargin<'_> {
     }
 }
 
-/// Root of a margin between `a` (sign sa) and `b`, by argmin's Brent method.
-pub(crate) fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> f64 {
+/// A solver that stopped without an answer: argmin's error or termination reason, named.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("the {solver} stopped without an answer: {reason}")]
+pub struct SolverFailure {
+    pub solver: &'static str,
+    pub reason: String,
+}
+
+impl SolverFailure {
+    pub(crate) fn argmin(solver: &'static str, e: ArgminError) -> Self {
+        SolverFailure {
+            solver,
+            reason: e.to_string(),
+        }
+    }
+}
+
+/// Root of a margin between `a` and `b` (opposite signs), by argmin's Brent method; anything but
+/// convergence is a [`SolverFailure`].
+pub(crate) fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> Result<f64, SolverFailure> {
+    const SOLVER: &str = "size root finder (Brent)";
     let solver = BrentRoot::new(a.min(b), a.max(b), 1e-8);
-    match Executor::new(problem, solver)
+    let res = Executor::new(problem, solver)
         .configure(|s| s.max_iters(100))
         .run()
-    {
-        Ok(res) => res
-            .state()
-            .get_best_param()
-            .copied()
-            .unwrap_or(0.5 * (a + b)),
-        Err(_) => 0.5 * (a + b),
+        .map_err(|e| SolverFailure::argmin(SOLVER, e))?;
+    let state = res.state();
+    match (state.get_termination_reason(), state.get_best_param()) {
+        (Some(TerminationReason::SolverConverged), Some(x)) => Ok(*x),
+        (reason, _) => Err(SolverFailure {
+            solver: SOLVER,
+            reason: reason.map_or("no result".into(), |r| r.text().to_string()),
+        }),
     }
 }
 
@@ -126,7 +146,7 @@ pub fn size_range(
     shape: &[f64],
     fine: bool,
     counter: &AtomicUsize,
-) -> SizeRange {
+) -> Result<SizeRange, SolverFailure> {
     let grid = radius_grid(brief);
     let mk = |side| SizeMargin {
         brief,
@@ -154,30 +174,30 @@ pub fn size_range(
     // Upper bound: first failure of the upper side.
     let hi_at = first_true(grid.len(), |i| margins(i).0 < 0.0);
     let hi = match hi_at {
-        Some(0) => return SizeRange::UpperFailsEverywhere,
-        Some(i) => brent_root(mk(Side::Upper), grid[i - 1].ln(), grid[i].ln()).exp(),
+        Some(0) => return Ok(SizeRange::UpperFailsEverywhere),
+        Some(i) => brent_root(mk(Side::Upper), grid[i - 1].ln(), grid[i].ln())?.exp(),
         None => grid[grid.len() - 1],
     };
     // The lower side already passes at the last grid radius below the upper bound: feasible for
     // certain (the lower margin rises with size), so the exact lower bound is not needed.
     let below = hi_at.map_or(grid.len() - 1, |h| h - 1);
     if margins(below).1 >= 0.0 {
-        return SizeRange::Feasible {
+        return Ok(SizeRange::Feasible {
             lo_m: grid[below],
             hi_m: hi,
-        };
+        });
     }
     // Lower bound: first pass of the lower side.
     let lo = match first_true(grid.len(), |i| margins(i).1 >= 0.0) {
         Some(0) => grid[0],
-        Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln()).exp(),
-        None => return SizeRange::LowerFailsEverywhere { hi_m: hi },
+        Some(i) => brent_root(mk(Side::Lower), grid[i - 1].ln(), grid[i].ln())?.exp(),
+        None => return Ok(SizeRange::LowerFailsEverywhere { hi_m: hi }),
     };
-    if lo <= hi {
+    Ok(if lo <= hi {
         SizeRange::Feasible { lo_m: lo, hi_m: hi }
     } else {
         SizeRange::Gap { lo_m: lo, hi_m: hi }
-    }
+    })
 }
 
 /// The upper size bound at full fidelity, found near the coarse one: the coarse search's bound is
@@ -189,9 +209,9 @@ pub(crate) fn polish_upper(
     kind: ShapeKind,
     shape: &[f64],
     counter: &AtomicUsize,
-) -> Option<f64> {
-    let SizeRange::Feasible { hi_m, .. } = size_range(brief, kind, shape, false, counter) else {
-        return None;
+) -> Result<Option<f64>, SolverFailure> {
+    let SizeRange::Feasible { hi_m, .. } = size_range(brief, kind, shape, false, counter)? else {
+        return Ok(None);
     };
     let fine = SizeMargin {
         brief,
@@ -204,10 +224,12 @@ pub(crate) fn polish_upper(
     let margin = |x: f64| side_margin(brief, &fine.eval(x), Side::Upper);
     // Try a tight bracket first (the planar, coarse bound is usually within a few tenths of a
     // percent), then a wider one.
-    let (a, b) = [0.003, 0.02].into_iter().find_map(|w: f64| {
+    let Some((a, b)) = [0.003, 0.02].into_iter().find_map(|w: f64| {
         let (a, b) = ((hi_m * (1.0 - w)).ln(), (hi_m * (1.0 + w)).ln());
         (margin(a) >= 0.0 && margin(b) < 0.0).then_some((a, b))
-    })?;
+    }) else {
+        return Ok(None);
+    };
     let r = brent_root(
         SizeMargin {
             brief,
@@ -219,10 +241,10 @@ pub(crate) fn polish_upper(
         },
         a,
         b,
-    )
+    )?
     .exp();
     // The lower-side limits must hold there too; otherwise let the full search decide and explain.
-    (side_margin(brief, &fine.eval(r.ln()), Side::Lower) >= 0.0).then_some(r)
+    Ok((side_margin(brief, &fine.eval(r.ln()), Side::Lower) >= 0.0).then_some(r))
 }
 
 /// Smallest `i < n` with `pred(i)`, for a predicate false then true along `0..n`; `None` if never true.
