@@ -35,6 +35,7 @@ pub mod fit;
 use nalgebra::Vector3;
 use std::f64::consts::PI;
 
+use crate::numeric::{GL4, GL8};
 use crate::shape::{CurvatureProfile, CurvatureSegment, SegmentKind};
 
 /// One sample of the path.
@@ -81,18 +82,6 @@ pub struct Centreline {
     /// Arc-length interval of the loop proper.
     pub loop_span_m: (f64, f64),
 }
-
-/// 8-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
-const GL8: [(f64, f64); 8] = [
-    (-0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
-    (-0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
-    (-0.525_532_409_916_329, 0.313_706_645_877_887),
-    (-0.183_434_642_495_65, 0.362_683_783_378_362),
-    (0.183_434_642_495_65, 0.362_683_783_378_362),
-    (0.525_532_409_916_329, 0.313_706_645_877_887),
-    (0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
-    (0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
-];
 
 /// Planar displacement (Δx, Δz) along a segment from local arc length 0 to `t`, starting at pitch `theta0`.
 pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64, f64) {
@@ -208,14 +197,6 @@ impl ClothoidStart {
 pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f64, f64)> {
     ClothoidStart::new(theta0, k0, c)?.displacement(t)
 }
-
-/// 4-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
-const GL4: [(f64, f64); 4] = [
-    (-0.861_136_311_594_052_6, 0.347_854_845_137_453_86),
-    (-0.339_981_043_584_856_3, 0.652_145_154_862_546_1),
-    (0.339_981_043_584_856_3, 0.652_145_154_862_546_1),
-    (0.861_136_311_594_052_6, 0.347_854_845_137_453_86),
-];
 
 /// Displacement from local `t0` to `t1` by Gauss–Legendre quadrature on each of a few sub-intervals.
 ///
