@@ -5,10 +5,9 @@
 //! the heartline along the track normal, away from the rider's head. Axes: X along the entry
 //! direction, Y to the rider's left at entry, Z up; the entry point of the heartline is the origin.
 //!
-//! Position integration per segment kind:
-//! - straight and arc: closed form;
-//! - clothoid (κ linear in s): Fresnel integrals, via the `fresnel` crate (a translation of Cephes);
-//! - cubic curvature: 8-point Gauss–Legendre quadrature on every sample interval.
+//! Each segment integrates itself (closed forms, Fresnel integrals or Gauss–Legendre quadrature:
+//! [`crate::shape::piece`]) at [`Accuracy::DEFAULT`]; this module places the segments end to end
+//! and samples them.
 //!
 //! Lateral shift ([`Centreline::build_shifted`]): the planar loop is spread sideways so that its
 //! exit track passes beside its entry track, y(σ) = shift · S((σ − a)/(b − a)) over the loop proper
@@ -33,9 +32,10 @@
 pub mod fit;
 
 use nalgebra::Vector3;
-use std::f64::consts::PI;
 
-use crate::shape::{CurvatureProfile, CurvatureSegment, SegmentKind};
+use crate::numeric::GL4;
+use crate::shape::CurvatureProfile;
+use crate::shape::piece::{Accuracy, CurvePiece, PieceWalk};
 
 /// One sample of the path.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -82,177 +82,6 @@ pub struct Centreline {
     pub loop_span_m: (f64, f64),
 }
 
-/// 8-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
-const GL8: [(f64, f64); 8] = [
-    (-0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
-    (-0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
-    (-0.525_532_409_916_329, 0.313_706_645_877_887),
-    (-0.183_434_642_495_65, 0.362_683_783_378_362),
-    (0.183_434_642_495_65, 0.362_683_783_378_362),
-    (0.525_532_409_916_329, 0.313_706_645_877_887),
-    (0.796_666_477_413_626_7, 0.222_381_034_453_374_47),
-    (0.960_289_856_497_536_2, 0.101_228_536_290_376_26),
-];
-
-/// Planar displacement (Δx, Δz) along a segment from local arc length 0 to `t`, starting at pitch `theta0`.
-pub fn segment_displacement(seg: &CurvatureSegment, theta0: f64, t: f64) -> (f64, f64) {
-    SegmentStart::new(seg, theta0).displacement(t)
-}
-
-/// What [`segment_displacement`] needs at a segment's start, worked out once for all its stations
-/// (the start terms of the closed forms do not depend on the station; same arithmetic, same bits).
-struct SegmentStart<'a> {
-    seg: &'a CurvatureSegment,
-    theta0: f64,
-    sin0: f64,
-    cos0: f64,
-    clothoid: Option<ClothoidStart>,
-}
-
-impl<'a> SegmentStart<'a> {
-    fn new(seg: &'a CurvatureSegment, theta0: f64) -> Self {
-        let (sin0, cos0) = (theta0.sin(), theta0.cos());
-        let clothoid = (seg.kind == SegmentKind::Clothoid)
-            .then(|| ClothoidStart::new(theta0, seg.coeffs[0], seg.coeffs[1]))
-            .flatten();
-        Self {
-            seg,
-            theta0,
-            sin0,
-            cos0,
-            clothoid,
-        }
-    }
-
-    fn displacement(&self, t: f64) -> (f64, f64) {
-        let (seg, theta0) = (self.seg, self.theta0);
-        let k0 = seg.coeffs[0];
-        match seg.kind {
-            SegmentKind::Straight => (t * self.cos0, t * self.sin0),
-            SegmentKind::Arc if k0.abs() > 1e-300 => {
-                let th = theta0 + k0 * t;
-                ((th.sin() - self.sin0) / k0, (self.cos0 - th.cos()) / k0)
-            }
-            SegmentKind::Clothoid => self
-                .clothoid
-                .as_ref()
-                .and_then(|c| c.displacement(t))
-                .unwrap_or_else(|| quadrature_displacement(seg, theta0, 0.0, t)),
-            _ => quadrature_displacement(seg, theta0, 0.0, t),
-        }
-    }
-}
-
-/// The station-independent part of [`clothoid_displacement`].
-struct ClothoidStart {
-    c: f64,
-    k0: f64,
-    a: f64,
-    s0: f64,
-    c0: f64,
-    sp: f64,
-    cp: f64,
-}
-
-impl ClothoidStart {
-    fn new(theta0: f64, k0: f64, c: f64) -> Option<Self> {
-        if c == 0.0 {
-            return None;
-        }
-        let a = (c.abs() / PI).sqrt();
-        let w0 = a * k0 / c;
-        // Past |w| ≈ 10 the differences of C and S cancel badly; quadrature is then the better tool.
-        if w0.abs() > 10.0 {
-            return None;
-        }
-        let (s0, c0) = fresnel::fresnl(w0);
-        let phi = theta0 - k0 * k0 / (2.0 * c);
-        let (sp, cp) = phi.sin_cos();
-        Some(Self {
-            c,
-            k0,
-            a,
-            s0,
-            c0,
-            sp,
-            cp,
-        })
-    }
-
-    fn displacement(&self, t: f64) -> Option<(f64, f64)> {
-        let Self {
-            c,
-            k0,
-            a,
-            s0,
-            c0,
-            sp,
-            cp,
-        } = *self;
-        let w1 = a * (t + k0 / c);
-        if w1.abs() > 10.0 {
-            return None;
-        }
-        let (s1, c1) = fresnel::fresnl(w1);
-        let (dc, ds) = (c1 - c0, (s1 - s0) * c.signum());
-        Some(((cp * dc - sp * ds) / a, (sp * dc + cp * ds) / a))
-    }
-}
-
-/// Displacement along κ(τ) = k0 + c·τ by Fresnel integrals; `None` where the formula would lose
-/// precision (nearly constant curvature), so the caller falls back to quadrature.
-///
-/// With θ(τ) = θ0 + k0·τ + c·τ²/2, complete the square: θ = φ + sgn(c)·(π/2)·w², where
-/// a = √(|c|/π), w = a(τ + k0/c), φ = θ0 − k0²/(2c). Then ∫₀ᵗ e^{iθ} dτ =
-/// (e^{iφ}/a)·[ΔC + i·sgn(c)·ΔS] with C, S the Fresnel integrals of A&S 7.3.1 between w(0) and w(t).
-pub fn clothoid_displacement(theta0: f64, k0: f64, c: f64, t: f64) -> Option<(f64, f64)> {
-    ClothoidStart::new(theta0, k0, c)?.displacement(t)
-}
-
-/// 4-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
-const GL4: [(f64, f64); 4] = [
-    (-0.861_136_311_594_052_6, 0.347_854_845_137_453_86),
-    (-0.339_981_043_584_856_3, 0.652_145_154_862_546_1),
-    (0.339_981_043_584_856_3, 0.652_145_154_862_546_1),
-    (0.861_136_311_594_052_6, 0.347_854_845_137_453_86),
-];
-
-/// Displacement from local `t0` to `t1` by Gauss–Legendre quadrature on each of a few sub-intervals.
-///
-/// Sub-intervals turn the tangent by at most 1 rad and are at most 4 m long. By the rule's error
-/// term (A&S 25.4.30), h^(2n+1)(n!)⁴/((2n+1)((2n)!)³)·f⁽²ⁿ⁾ with f⁽²ⁿ⁾ ≈ κ²ⁿ, 8 points leave
-/// below 1e-22·h there; where the turn is at most 0.1 rad (every coarse search station), 4 points
-/// already leave below 1e-16·h, at half the cost.
-pub fn quadrature_displacement(
-    seg: &CurvatureSegment,
-    theta0: f64,
-    t0: f64,
-    t1: f64,
-) -> (f64, f64) {
-    let [c0, c1, c2, c3] = seg.coeffs.map(f64::abs);
-    let t = t0.abs().max(t1.abs());
-    let kappa_bound = c0 + t * (c1 + t * (c2 + t * c3));
-    let len = (t1 - t0).abs();
-    let parts = ((len * kappa_bound).max(len / 4.0).ceil() as usize).clamp(1, 100_000);
-    let h = (t1 - t0) / parts as f64;
-    let rule: &[(f64, f64)] = if h.abs() * kappa_bound <= 0.1 && h.abs() <= 0.5 {
-        &GL4
-    } else {
-        &GL8
-    };
-    let (mut dx, mut dz) = (0.0, 0.0);
-    for p in 0..parts {
-        let a = t0 + h * p as f64;
-        for &(node, w) in rule {
-            let tau = a + 0.5 * h * (node + 1.0);
-            let th = theta0 + seg.turn_rad(tau);
-            dx += 0.5 * h * w * th.cos();
-            dz += 0.5 * h * w * th.sin();
-        }
-    }
-    (dx, dz)
-}
-
 impl Centreline {
     /// Sample `profile` every `spacing_m` or closer (every segment boundary is a station) and build
     /// heartline, rail and frames. At a curvature step the boundary appears twice, once with the
@@ -271,7 +100,8 @@ impl Centreline {
         for (i, seg) in profile.segments().iter().enumerate() {
             let s0 = profile.segment_start_m(i);
             let theta0 = profile.segment_pitch_rad(i);
-            let k_start = seg.curvature_1_m(0.0);
+            let curve = seg.piece();
+            let k_start = curve.curvature_1_m(0.0);
             let n = ((seg.length_m / spacing_m).ceil() as usize).max(2);
             // Even counts put a station on every segment midpoint too.
             let n = n + n % 2;
@@ -289,41 +119,28 @@ impl Centreline {
                 // Continuous curvature: the previous segment's last station serves as this one's first.
                 Some(_) => 1,
             };
-            // Cubic pieces are integrated station to station (quadrature from the segment start
-            // each time would cost O(n²)); the others have closed forms from the segment start.
-            let (mut acc, mut t_prev) = ((0.0, 0.0), 0.0);
-            let start = SegmentStart::new(seg, theta0);
+            // The start terms are worked out once per segment, not per station.
+            let mut walk = curve.walk(theta0, Accuracy::DEFAULT);
             for j in first..=n {
                 let t = seg.length_m * j as f64 / n as f64;
-                let (dx, dz) = if seg.kind == SegmentKind::Cubic {
-                    let (ddx, ddz) = quadrature_displacement(seg, theta0, t_prev, t);
-                    acc = (acc.0 + ddx, acc.1 + ddz);
-                    t_prev = t;
-                    acc
-                } else {
-                    start.displacement(t)
-                };
+                let (dx, dz) = walk.to(t);
                 let s_m = s0 + t;
                 let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
                 stations.push(planar_station(
                     s_m,
                     x + dx,
                     z + dz,
-                    theta0 + seg.turn_rad(t),
-                    seg.curvature_1_m(t),
+                    theta0 + curve.turn_rad(t),
+                    curve.curvature_1_m(t),
                     heartline_height_m,
                     piece,
                     in_loop,
                 ));
             }
-            let (dx, dz) = if seg.kind == SegmentKind::Cubic {
-                acc
-            } else {
-                start.displacement(seg.length_m)
-            };
+            let (dx, dz) = walk.end();
             x += dx;
             z += dz;
-            prev_end_curv = Some(seg.curvature_1_m(seg.length_m));
+            prev_end_curv = Some(curve.curvature_1_m(seg.length_m));
         }
         Centreline {
             stations,
@@ -546,25 +363,7 @@ mod tests {
     use super::*;
     use crate::brief::ShapeKind;
     use crate::shape::family;
-
-    // Fresnel (closed form) and Gauss–Legendre quadrature are independent integrators of the same
-    // Euler spiral; they must agree to near machine precision (numerical analysis, no source needed).
-    #[test]
-    fn fresnel_and_quadrature_agree_on_clothoids() {
-        for &(theta0, k0, c, t) in &[
-            (0.0, 0.0, 0.01, 30.0),
-            (1.0, 0.1, -0.004, 25.0),
-            (2.5, 0.05, 0.002, 12.0),
-        ] {
-            let seg = CurvatureSegment::clothoid(t, k0, k0 + c * t);
-            let (fx, fz) = clothoid_displacement(theta0, k0, c, t).unwrap();
-            let (qx, qz) = quadrature_displacement(&seg, theta0, 0.0, t);
-            assert!(
-                (fx - qx).abs() < 1e-10 && (fz - qz).abs() < 1e-10,
-                "{fx} {qx} {fz} {qz}"
-            );
-        }
-    }
+    use std::f64::consts::PI;
 
     // Every family's loop must close level at entry height (loop-closure; see shape module).
     #[test]

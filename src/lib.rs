@@ -38,6 +38,7 @@ pub mod export;
 pub mod geometry;
 pub mod import;
 pub mod model;
+pub mod numeric;
 pub mod optimiser;
 pub mod report;
 pub mod shape;

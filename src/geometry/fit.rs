@@ -42,6 +42,7 @@
 use nalgebra::{Matrix3, SymmetricEigen, Vector3};
 
 use super::{Centreline, Station};
+use crate::numeric::{GL5, PiecewiseCubic, cubic_pieces};
 
 /// Largest tilt of the loop's plane from vertical, degrees.
 pub const MAX_TILT_DEG: f64 = 2.0;
@@ -111,12 +112,13 @@ pub struct FitReport {
 pub struct FitError(pub String);
 
 /// A penalised cubic smoothing spline y(t) (see the module docs).
+///
+/// Unlike an interpolating spline its values at the knots are unknowns too, so its system is
+/// pentadiagonal (Reinsch's) rather than tridiagonal; once the knot values g and second
+/// derivatives γ are solved, the pieces and their evaluation are the shared ones of
+/// [`crate::numeric`].
 #[derive(Debug, Clone, PartialEq)]
-pub struct SmoothingSpline {
-    knots: Vec<f64>,
-    /// Per interval: value, slope, curvature/2, third derivative/6 in (t − tᵢ).
-    coeffs: Vec<[f64; 4]>,
-}
+pub struct SmoothingSpline(PiecewiseCubic);
 
 /// The banded (pentadiagonal) Cholesky factor of R + λ·QᵀQ for knots `t`.
 struct Factor {
@@ -206,59 +208,20 @@ impl SmoothingSpline {
             g[j + 1] -= lam * gj * (-1.0 / h[j] - 1.0 / h[j + 1]);
             g[j + 2] -= lam * gj / h[j + 1];
         }
-        let coeffs = (0..n - 1)
-            .map(|i| {
-                let b = (g[i + 1] - g[i]) / h[i] - h[i] * (2.0 * gamma[i] + gamma[i + 1]) / 6.0;
-                [
-                    g[i],
-                    b,
-                    gamma[i] / 2.0,
-                    (gamma[i + 1] - gamma[i]) / (6.0 * h[i]),
-                ]
-            })
-            .collect();
-        SmoothingSpline {
-            knots: t.to_vec(),
-            coeffs,
-        }
+        SmoothingSpline(PiecewiseCubic::new(t.to_vec(), cubic_pieces(h, &g, &gamma)))
     }
 
     /// Value and first two derivatives at `t`.
     pub fn eval(&self, t: f64) -> [f64; 3] {
-        let k = &self.knots;
-        let i = k
-            .partition_point(|&x| x <= t)
-            .saturating_sub(1)
-            .min(k.len() - 2);
-        let d = t - k[i];
-        let c = &self.coeffs[i];
-        [
-            c[0] + d * (c[1] + d * (c[2] + d * c[3])),
-            c[1] + d * (2.0 * c[2] + d * 3.0 * c[3]),
-            2.0 * c[2] + 6.0 * c[3] * d,
-        ]
+        let [f, df, ddf, _] = self.0.derivatives(t);
+        [f, df, ddf]
     }
 
     /// Value and first three derivatives at `t` (the third is constant on each interval).
     pub fn eval3(&self, t: f64) -> [f64; 4] {
-        let [f, df, ddf] = self.eval(t);
-        let k = &self.knots;
-        let i = k
-            .partition_point(|&x| x <= t)
-            .saturating_sub(1)
-            .min(k.len() - 2);
-        [f, df, ddf, 6.0 * self.coeffs[i][3]]
+        self.0.derivatives(t)
     }
 }
-
-/// 5-point Gauss–Legendre nodes and weights on [−1, 1] (Abramowitz & Stegun, Table 25.4).
-const GL5: [(f64, f64); 5] = [
-    (-0.906_179_845_938_664, 0.236_926_885_056_189_1),
-    (-0.538_469_310_105_683_1, 0.478_628_670_499_366_5),
-    (0.0, 0.568_888_888_888_888_9),
-    (0.538_469_310_105_683_1, 0.478_628_670_499_366_5),
-    (0.906_179_845_938_664, 0.236_926_885_056_189_1),
-];
 
 /// The unit vector e = p/|p| and its first two derivatives, from p, p' and p''.
 ///

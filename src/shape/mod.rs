@@ -1,8 +1,10 @@
 //! Shape families: dimensionless shape parameters and a size → curvature along arc length.
 //!
 //! A shape family owns only the *curvature* of the heartline as a function of arc length, κ(s),
-//! as a [`CurvatureProfile`] made of polynomial pieces. It knows nothing of positions, speeds or
-//! loads; the geometry stage integrates the profile into a centreline.
+//! as a [`CurvatureProfile`] made of polynomial pieces. It knows nothing of speeds or loads. Each
+//! kind of piece (straight, arc, clothoid, cubic) is a type in [`piece`] that knows how it turns
+//! and how it integrates into position from a given start pitch; the geometry stage places the
+//! pieces end to end, samples them and builds the track frames.
 //!
 //! Every family is one file implementing [`ShapeFamily`]. Its size is always the heartline radius
 //! of curvature at the top of the loop, `top_radius_m`, so that the optimiser can treat all
@@ -20,6 +22,7 @@
 
 mod circle;
 mod clothoid;
+pub mod piece;
 mod profile;
 mod spline;
 
@@ -29,6 +32,7 @@ pub use profile::{Profile, RideContext, SolvedProfile, TargetLoad};
 pub use spline::Spline;
 
 use crate::brief::ShapeKind;
+use piece::{AnyPiece, CurvePiece};
 
 /// Why a family could not produce a curvature profile for the given parameters.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -38,7 +42,7 @@ pub struct ShapeError {
     pub message: String,
 }
 
-/// What kind of piece a curvature segment is; the geometry stage integrates each kind its own way.
+/// What kind of piece a curvature segment is: which [`piece`] type it stands for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum SegmentKind {
     /// κ = 0.
@@ -51,7 +55,9 @@ pub enum SegmentKind {
     Cubic,
 }
 
-/// One piece of the profile: κ(t) = c0 + c1·t + c2·t² + c3·t³ for local arc length t in [0, length].
+/// One piece of the profile as stored: κ(t) = c0 + c1·t + c2·t² + c3·t³ for local arc length t in
+/// [0, length], with the coefficients the `kind` does not use zero. Its behaviour is that of
+/// [`CurvatureSegment::piece`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CurvatureSegment {
     pub kind: SegmentKind,
@@ -91,20 +97,33 @@ impl CurvatureSegment {
             coeffs,
         }
     }
+    /// The piece this segment stands for.
+    pub fn piece(&self) -> AnyPiece {
+        let (length_m, [c0, c1, ..]) = (self.length_m, self.coeffs);
+        match self.kind {
+            SegmentKind::Straight => AnyPiece::Straight(piece::Straight { length_m }),
+            SegmentKind::Arc => AnyPiece::Arc(piece::Arc {
+                length_m,
+                curvature_1_m: c0,
+            }),
+            SegmentKind::Clothoid => AnyPiece::Clothoid(piece::Clothoid {
+                length_m,
+                start_1_m: c0,
+                slope_1_m2: c1,
+            }),
+            SegmentKind::Cubic => AnyPiece::Cubic(piece::Cubic {
+                length_m,
+                coeffs: self.coeffs,
+            }),
+        }
+    }
     /// κ at local arc length `t`.
     pub fn curvature_1_m(&self, t: f64) -> f64 {
-        let c = &self.coeffs;
-        c[0] + t * (c[1] + t * (c[2] + t * c[3]))
-    }
-    /// dκ/ds at local arc length `t`.
-    pub fn slope_1_m2(&self, t: f64) -> f64 {
-        let c = &self.coeffs;
-        c[1] + t * (2.0 * c[2] + t * 3.0 * c[3])
+        self.piece().curvature_1_m(t)
     }
     /// ∫₀ᵗ κ dτ, the pitch turned within this segment (exact for the polynomial).
     pub fn turn_rad(&self, t: f64) -> f64 {
-        let c = &self.coeffs;
-        t * (c[0] + t * (c[1] / 2.0 + t * (c[2] / 3.0 + t * c[3] / 4.0)))
+        self.piece().turn_rad(t)
     }
 }
 
@@ -207,31 +226,7 @@ impl CurvatureProfile {
     pub fn max_curvature_1_m(&self) -> f64 {
         self.segments
             .iter()
-            .map(|seg| {
-                // A cubic's extremes lie at the ends or where its slope vanishes.
-                let mut m = seg
-                    .curvature_1_m(0.0)
-                    .abs()
-                    .max(seg.curvature_1_m(seg.length_m).abs());
-                let [_, c1, c2, c3] = seg.coeffs;
-                let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
-                let mut roots = Vec::new();
-                if a.abs() > 1e-300 {
-                    let disc = b * b - 4.0 * a * c;
-                    if disc >= 0.0 {
-                        roots.push((-b + disc.sqrt()) / (2.0 * a));
-                        roots.push((-b - disc.sqrt()) / (2.0 * a));
-                    }
-                } else if b.abs() > 1e-300 {
-                    roots.push(-c / b);
-                }
-                for r in roots {
-                    if r > 0.0 && r < seg.length_m {
-                        m = m.max(seg.curvature_1_m(r).abs());
-                    }
-                }
-                m
-            })
+            .map(|seg| seg.piece().max_abs_curvature_1_m())
             .fold(0.0, f64::max)
     }
     /// The smallest radius of curvature anywhere, m (infinite for straight track).

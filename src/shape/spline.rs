@@ -8,66 +8,37 @@
 
 use super::{CurvatureSegment, ShapeError, ShapeFamily};
 use crate::brief::ShapeKind;
+use crate::numeric::{
+    cubic_integral, cubic_pieces, cubic_second, cubic_slope, cubic_value, solve_tridiagonal,
+};
 use std::f64::consts::PI;
 
 /// Variable-radius spline loop.
 #[derive(Debug, Clone, Copy, Default)]
 pub struct Spline;
 
-/// Cubic spline through `y` at `KNOTS`: natural at the first knot, zero slope at the last.
+/// Width of each of the four spline intervals over the half loop, in u.
+const H: f64 = 0.125;
+
+/// Cubic spline through `y` at u = 0, ⅛, ¼, ⅜, ½: natural at the first knot, zero slope at the last.
 /// Returns the per-interval coefficients in the local variable (u − uᵢ).
 fn half_spline(y: [f64; 5]) -> [[f64; 4]; 4] {
-    let h = 0.125;
-    // Unknown second derivatives M0..M4 with M0 = 0 (natural). Interior rows are the standard
-    // continuity equations h·M(i−1) + 4h·M(i) + h·M(i+1) = 6(y(i+1) − 2y(i) + y(i−1))/h; the last row
-    // imposes zero end slope: (y4 − y3)/h + h·(2·M4 + M3)/6 = 0.
-    let mut a = [[0.0f64; 4]; 4];
+    let h = H;
+    // Unknown second derivatives M1..M4 (M0 = 0, natural). Rows 1–3 are the standard continuity
+    // equations h·M(i−1) + 4h·M(i) + h·M(i+1) = 6(y(i+1) − 2y(i) + y(i−1))/h; the last row imposes
+    // zero end slope: (y4 − y3)/h + h·(2·M4 + M3)/6 = 0. The system is tridiagonal.
+    let sub = [0.0, h, h, h / 6.0];
+    let diag = [4.0 * h, 4.0 * h, 4.0 * h, 2.0 * h / 6.0];
+    let sup = [h, h, h, 0.0];
     let mut rhs = [0.0f64; 4];
     for i in 1..=3 {
-        let r = i - 1;
-        if i >= 2 {
-            a[r][i - 2] = h;
-        }
-        a[r][i - 1] = 4.0 * h;
-        a[r][i] = h;
-        rhs[r] = 6.0 * (y[i + 1] - 2.0 * y[i] + y[i - 1]) / h;
+        rhs[i - 1] = 6.0 * (y[i + 1] - 2.0 * y[i] + y[i - 1]) / h;
     }
-    a[3][2] = h / 6.0;
-    a[3][3] = 2.0 * h / 6.0;
     rhs[3] = -(y[4] - y[3]) / h;
-    let m = solve4(a, rhs);
+    let m = solve_tridiagonal(&sub, &diag, &sup, &rhs);
     let mm = [0.0, m[0], m[1], m[2], m[3]];
-    let mut out = [[0.0; 4]; 4];
-    for i in 0..4 {
-        let b = (y[i + 1] - y[i]) / h - h * (2.0 * mm[i] + mm[i + 1]) / 6.0;
-        out[i] = [y[i], b, mm[i] / 2.0, (mm[i + 1] - mm[i]) / (6.0 * h)];
-    }
-    out
-}
-
-/// Gaussian elimination with partial pivoting on a 4×4 system (well conditioned here).
-fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> [f64; 4] {
-    for col in 0..4 {
-        let piv = (col..4)
-            .max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))
-            .unwrap_or(col);
-        a.swap(col, piv);
-        b.swap(col, piv);
-        for row in col + 1..4 {
-            let f = a[row][col] / a[col][col];
-            let pivot_row = a[col];
-            for (x, p) in a[row].iter_mut().zip(pivot_row).skip(col) {
-                *x -= f * p;
-            }
-            b[row] -= f * b[col];
-        }
-    }
-    let mut x = [0.0; 4];
-    for row in (0..4).rev() {
-        let s: f64 = (row + 1..4).map(|k| a[row][k] * x[k]).sum();
-        x[row] = (b[row] - s) / a[row][row];
-    }
-    x
+    let pieces = cubic_pieces(&[h; 4], &y, &mm);
+    [pieces[0], pieces[1], pieces[2], pieces[3]]
 }
 
 impl ShapeFamily for Spline {
@@ -91,17 +62,13 @@ impl ShapeFamily for Spline {
         let y = [0.0, shape[0], shape[1], shape[2], 1.0];
         let pieces = half_spline(y);
         // ∫ over the half loop in u, exact for cubics; the whole loop doubles it.
-        let h = 0.125;
-        let half_area: f64 = pieces
-            .iter()
-            .map(|c| h * (c[0] + h * (c[1] / 2.0 + h * (c[2] / 3.0 + h * c[3] / 4.0))))
-            .sum();
+        let h = H;
+        let half_area: f64 = pieces.iter().map(|c| cubic_integral(c, h)).sum();
         // Curvature must stay non-negative so the loop turns one way; sample densely to check.
         for c in &pieces {
             for k in 0..=40 {
                 let t = h * k as f64 / 40.0;
-                let v = c[0] + t * (c[1] + t * (c[2] + t * c[3]));
-                if v < -1e-12 {
+                if cubic_value(c, t) < -1e-12 {
                     return Err(ShapeError {
                         family: "spline",
                         message: format!("control values {shape:?} make the curvature negative"),
@@ -129,10 +96,12 @@ impl ShapeFamily for Spline {
         // Mirror: piece i of the second half is piece (3 − i) run backwards. For p(t) on [0, h]
         // run backwards, q(t) = p(h − t); expand the polynomial in t.
         for c in pieces.iter().rev() {
-            let p = |t: f64| c[0] + t * (c[1] + t * (c[2] + t * c[3]));
-            let d1 = |t: f64| c[1] + t * (2.0 * c[2] + t * 3.0 * c[3]);
-            let d2 = |t: f64| 2.0 * c[2] + 6.0 * c[3] * t;
-            let q = [p(h), -d1(h), d2(h) / 2.0, -c[3]];
+            let q = [
+                cubic_value(c, h),
+                -cubic_slope(c, h),
+                cubic_second(c, h) / 2.0,
+                -c[3],
+            ];
             segs.push(CurvatureSegment::cubic(seg_m, scale(q)));
         }
         Ok(segs)
@@ -149,10 +118,10 @@ mod tests {
     fn spline_meets_its_defining_conditions() {
         let y = [0.0, 0.3, 0.6, 0.9, 1.0];
         let p = half_spline(y);
-        let h = 0.125;
-        let ev = |c: [f64; 4], t: f64| c[0] + t * (c[1] + t * (c[2] + t * c[3]));
-        let d1 = |c: [f64; 4], t: f64| c[1] + t * (2.0 * c[2] + t * 3.0 * c[3]);
-        let d2 = |c: [f64; 4], t: f64| 2.0 * c[2] + 6.0 * c[3] * t;
+        let h = H;
+        let ev = |c: [f64; 4], t: f64| cubic_value(&c, t);
+        let d1 = |c: [f64; 4], t: f64| cubic_slope(&c, t);
+        let d2 = |c: [f64; 4], t: f64| cubic_second(&c, t);
         for i in 0..4 {
             assert!((ev(p[i], 0.0) - y[i]).abs() < 1e-12);
             assert!((ev(p[i], h) - y[i + 1]).abs() < 1e-12);
