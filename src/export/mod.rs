@@ -16,6 +16,7 @@
 //! `<name>-sweep.svg` ([`overlay`]).
 //! A `check` run writes `<name>-check.json` and `<name>-check-loads.csv` ([`check`]).
 
+pub mod chart;
 pub mod check;
 pub mod dxf;
 pub mod json;

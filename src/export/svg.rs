@@ -9,11 +9,11 @@
 use svg::Document;
 use svg::node::element::{Definitions, Group, Line, Marker, Path, Polyline, Rectangle};
 
-use super::dxf::thin_indices;
-use super::plot::{
-    LegendEntry, caution_block, clip, colour, fmt_num, legend, nice_number, points_attr, px, text,
-    wrap,
+use super::chart::{
+    LegendEntry, Look, Nice, caution_block, clip, colour, fmt_num, legend, nice_number,
+    points_attr, px, text, wrap,
 };
+use super::dxf::thin_indices;
 use crate::optimiser::Design;
 
 /// Width of the elevation, px.
@@ -265,7 +265,7 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
         .collect();
     let legend_end = bar_y + 20.0 * legend_entries.len() as f64;
     let caution_y = legend_end.max(bar_y + 34.0) + 22.0;
-    let (caution, last) = caution_block(LEFT_PX, caution_y, 130);
+    let (caution, last) = caution_block(Look::Drawing, LEFT_PX, caution_y, 130);
     let height = (last + 20.0).ceil();
 
     doc = doc
@@ -283,7 +283,7 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
         .add(track)
         .add(dims)
         .add(bar)
-        .add(legend(legend_x, bar_y, &legend_entries))
+        .add(legend(Look::Drawing, legend_x, bar_y, &legend_entries))
         .add(caution);
     doc.to_string()
 }
@@ -393,7 +393,7 @@ fn horizontal_dim(frame: &Frame, y_px: f64, a: (f64, f64), b: (f64, f64), label:
 /// A scale bar at (x, y) px of a round length near `target_m`, in two halves; returns the group
 /// and its width in px.
 fn scale_bar(x: f64, y: f64, scale_px_m: f64, target_m: f64) -> (Group, f64) {
-    let len_m = nice_number(target_m, true);
+    let len_m = nice_number(target_m, Nice::Round);
     let w = len_m * scale_px_m;
     let half = w / 2.0;
     let label = format!("{} m", short_num(len_m));
