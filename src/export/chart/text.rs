@@ -1,6 +1,7 @@
 //! Words on a drawing: text elements in either [`Look`], wrapping and clipping, the legend and
 //! the caution block.
 
+use svg::Node;
 use svg::node::element::{Group, Text};
 
 use super::{FONT, Look, colour, px, rule};
@@ -59,11 +60,11 @@ pub fn bare_text(x: f64, y: f64, content: &str) -> Text {
     Text::new(content).set("x", px(x)).set("y", px(y))
 }
 
-/// `group` with the sheet look's font: generic sans-serif at `size_px`.
-pub fn sheet_font(group: Group, size_px: f64) -> Group {
-    group
-        .set("font-family", "sans-serif")
-        .set("font-size", size_px)
+/// `node` (a group, or one text) with the sheet look's font: generic sans-serif at `size_px`.
+pub fn sheet_font<N: Node>(mut node: N, size_px: f64) -> N {
+    node.assign("font-family", "sans-serif");
+    node.assign("font-size", size_px);
+    node
 }
 
 /// A legend entry: label, stroke colour, optional dash pattern.
