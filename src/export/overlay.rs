@@ -113,7 +113,6 @@ fn infeasible_notes(c: &Comparison) -> Vec<String> {
 /// Every family's heartline elevation on one sheet, one scale on both axes, origin at loop entry.
 pub fn elevation_overlay_svg(c: &Comparison) -> String {
     let mut curves = Vec::new();
-    let (mut xr, mut zr) = ((0.0f64, 0.0f64), (0.0f64, 0.0f64));
     for e in &c.entries {
         let Ok(d) = &e.result else { continue };
         let st = &d.best.path.stations;
@@ -122,12 +121,9 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
             .iter()
             .map(|s| (s.heartline_m.x - entry.x, s.heartline_m.z - entry.z))
             .collect();
-        for &(x, z) in &pts {
-            xr = (xr.0.min(x), xr.1.max(x));
-            zr = (zr.0.min(z), zr.1.max(z));
-        }
         curves.push((e.kind, d.best.summary.loop_height_m, pts));
     }
+    let (xr, zr) = enclose(((0.0, 0.0), (0.0, 0.0)), &curves);
     let frame = sheet_frame(xr, zr, true);
     let (mut plot, items) =
         family_curves(&frame, &curves, |kind, h| format!("{kind}: {h:.2} m tall"));
@@ -156,6 +152,14 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
 /// A family's curve for an overlay: the family, the figure its legend quotes, and the points.
 type FamilyCurve = (ShapeKind, f64, Vec<(f64, f64)>);
 
+/// The x and y ranges `start` grown to take in every point of every curve, in order.
+fn enclose(start: ((f64, f64), (f64, f64)), curves: &[FamilyCurve]) -> ((f64, f64), (f64, f64)) {
+    let points = curves.iter().flat_map(|c| &c.2);
+    points.fold(start, |(xr, yr), &(x, y)| {
+        ((xr.0.min(x), xr.1.max(x)), (yr.0.min(y), yr.1.max(y)))
+    })
+}
+
 /// One solid curve per family in its colour, and the legend entries labelled by `label(kind, figure)`.
 fn family_curves(
     frame: &Frame,
@@ -180,7 +184,6 @@ fn family_curves(
 pub fn loads_overlay_svg(c: &Comparison) -> String {
     let b = &c.brief;
     let mut curves = Vec::new();
-    let (mut sr, mut gr) = ((0.0f64, 1.0f64), (b.min_top_g.min(0.0), b.max_g));
     for e in &c.entries {
         let Ok(d) = &e.result else { continue };
         let s0 = d.best.path.loop_span_m.0;
@@ -191,12 +194,9 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
             .iter()
             .map(|p| (p.s_m - s0, p.normal_g))
             .collect();
-        for &(s, g) in &pts {
-            sr = (sr.0.min(s), sr.1.max(s));
-            gr = (gr.0.min(g), gr.1.max(g));
-        }
         curves.push((e.kind, d.best.summary.peak_normal_g, pts));
     }
+    let (sr, gr) = enclose(((0.0, 1.0), (b.min_top_g.min(0.0), b.max_g)), &curves);
     let frame = sheet_frame(sr, gr, false);
     let (mut plot, mut items) = family_curves(&frame, &curves, |kind, peak| {
         format!("{kind}: peak {peak:.2} g")
