@@ -257,28 +257,18 @@ fn envelope_layer(design: &Design, chart: &Frame, x_range: (f64, f64)) -> Group 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::CAUTION;
 
     // Closed forms for a lossless circle of radius R entered at v (vertical circular motion, e.g.
     // Halliday, Resnick & Walker, ch. 6 and 8): bottom n = 1 + v²/(gR), top n = v²/(gR) − 5.
     // Read back from the drawing with its own 0 g and max-g lines as the scale.
     #[test]
     fn loads_plot_shows_closed_form_loads() {
-        use crate::export::svg::tests::{by_id, circle_design, parse, points};
+        use crate::export::svg::tests::{by_id, circle_design, parse, points, shows_caution};
         use crate::units::STANDARD_GRAVITY_M_S2 as G;
         let d = circle_design(10.0);
         let svg = loads_svg(&d);
         assert_eq!(svg.matches("<svg").count(), 1);
-        assert!(
-            svg.contains(
-                CAUTION
-                    .split_whitespace()
-                    .take(5)
-                    .collect::<Vec<_>>()
-                    .join(" ")
-                    .as_str()
-            )
-        );
+        assert!(shows_caution(&svg));
         assert!(svg.contains("min top") && svg.contains("max g"));
         let tags = parse(&svg);
         let y_of = |id: &str| -> f64 { by_id(&tags, id).1["y1"].parse().unwrap() };

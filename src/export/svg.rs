@@ -409,6 +409,12 @@ pub(crate) mod tests {
         out
     }
 
+    /// True if `svg` shows the caution's first words (the first wrapped line holds them).
+    pub(crate) fn shows_caution(svg: &str) -> bool {
+        let head: Vec<&str> = CAUTION.split_whitespace().take(5).collect();
+        svg.contains(&head.join(" "))
+    }
+
     pub(crate) fn by_id<'a>(
         tags: &'a [(String, std::collections::HashMap<String, String>, String)],
         id: &str,
@@ -462,16 +468,7 @@ pub(crate) mod tests {
         let width = (lead + r).max(2.0 * lead) - (lead - r).min(0.0);
         assert!((span(&heart, |p| p.0) / px_per_m - width).abs() < tol);
 
-        assert!(
-            svg.contains(
-                CAUTION
-                    .split_whitespace()
-                    .take(4)
-                    .collect::<Vec<_>>()
-                    .join(" ")
-                    .as_str()
-            )
-        );
+        assert!(shows_caution(&svg));
         assert!(svg.contains(&format!(
             "loop height (heartline) {:.2} m",
             d.best.summary.loop_height_m
