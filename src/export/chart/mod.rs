@@ -6,7 +6,7 @@
 //! - [`Frame`] ([`frame`]): the data → pixel mapping (each axis stretched, or one scale on both),
 //!   ticks, grid, axes, series, broken paths, limit lines and bands;
 //! - [`ticks`]: nice numbers, the two tick placements, fixed-decimal number printing;
-//! - [`text`]: text elements, wrapping and clipping, the legend and the caution block;
+//! - [`mod@text`]: text elements, wrapping and clipping, the legend and the caution block;
 //! - here: the colours, the font, pixel rounding, plain lines and polylines, and the page.
 //!
 //! The single-design drawings and the study sheets have always looked different (fonts, offsets,
