@@ -14,7 +14,7 @@ use dxf::{Color, Drawing, Point, Vector};
 use nalgebra::Vector3;
 
 use super::ExportError;
-use super::plot::{clean_text, wrap};
+use super::chart::{clean_text, wrap};
 use crate::model::Assessment;
 use crate::report::CAUTION;
 

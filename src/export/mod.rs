@@ -15,7 +15,10 @@
 //! `<name>-compare-elevation.svg`, `<name>-compare-loads.svg` and the sweep summary
 //! `<name>-sweep.svg` ([`overlay`]).
 //! A `check` run writes `<name>-check.json` and `<name>-check-loads.csv` ([`check`]).
+//!
+//! Every SVG drawing is built from one chart kit, [`chart`] (frame, ticks, text, legend, caution).
 
+pub mod chart;
 pub mod dxf;
 pub mod json;
 pub mod overlay;

@@ -1,18 +1,19 @@
 //! Overlay drawings for studies: the compare elevations and loads of every family on one sheet,
 //! and the sweep summary (achievable loop height against entry speed).
 //!
-//! Self-contained on the `svg` crate: a small [`Frame`] maps data to the sheet, draws axes with
-//! round-number ticks and a legend. Elevations are drawn at one scale on both axes (metres are
-//! metres in X and Z) with the origin at the loop entry of the heartline, shared by every family.
-//! Every sheet carries [`CAUTION`].
+//! Drawn with the chart kit ([`super::chart`]) in its [`Look::Sheet`]: a frame with ticks inside
+//! the padded data range (midpoint-rounded steps), a legend with notes, and the caution at the
+//! foot of every sheet. Elevations are drawn at one scale on both axes (metres are metres in X and
+//! Z) with the origin at the loop entry of the heartline, shared by every family.
 
-use svg::Document;
-use svg::node::element::path::Data;
-use svg::node::element::{Circle, Group, Line, Path, Rectangle, Text};
+use svg::node::element::Group;
 
+use super::chart::{
+    Frame, Look, Ticks, bare_text, caution_block, colour, dot, legend, midpoint_step, page,
+    sheet_font, wrap,
+};
 use crate::brief::{Objective, ShapeKind};
 use crate::compare::Comparison;
-use crate::report::CAUTION;
 use crate::sweep::SweepRow;
 
 /// Sheet size, px.
@@ -36,293 +37,61 @@ pub fn family_colour(kind: ShapeKind) -> &'static str {
 /// Dash patterns told apart in print, for curves of the same colour.
 const DASHES: [&str; 4] = ["none", "8 4", "2 3", "10 3 2 3"];
 
-/// Round a pixel coordinate so files stay short and stable.
-fn px(v: f64) -> f32 {
-    ((v * 100.0).round() / 100.0) as f32
-}
+/// A legend line: label, sample colour, dash pattern.
+type LegendItem = (String, &'static str, Option<&'static str>);
 
-/// A round tick step giving about `target` intervals over `span`.
-fn tick_step(span: f64, target: f64) -> f64 {
-    let raw = (span / target).max(1e-9);
-    let mag = 10f64.powf(raw.log10().floor());
-    let unit = raw / mag;
-    mag * if unit < 1.5 {
-        1.0
-    } else if unit < 3.5 {
-        2.0
-    } else if unit < 7.5 {
-        5.0
-    } else {
-        10.0
-    }
-}
-
-fn tick_label(v: f64, step: f64) -> String {
-    let decimals = if step >= 1.0 {
-        0
-    } else {
-        (-step.log10().floor()) as usize
+/// The frame of a sheet showing `x` and `y` padded by 5 % each side; with `equal` one metre is as
+/// long on both axes. Ticks lie inside the range, about one per 80 px across and 60 px up.
+fn sheet_frame(x: (f64, f64), y: (f64, f64), equal: bool) -> Frame {
+    let pad = |(a, b): (f64, f64)| {
+        let span = (b - a).abs().max(1e-6);
+        (a - 0.05 * span, b + 0.05 * span)
     };
-    let s = format!("{v:.decimals$}");
-    if s.starts_with('-') && s[1..].bytes().all(|b| b == b'0' || b == b'.') {
-        s[1..].to_string()
-    } else {
-        s
-    }
-}
-
-/// Data ranges mapped to the plot area.
-pub struct Frame {
-    x: (f64, f64),
-    y: (f64, f64),
-    area: (f64, f64, f64, f64), // left, top, width, height
-}
-
-impl Frame {
-    /// A frame showing `x` and `y` (padded a little); with `equal` one metre is as long on both axes.
-    pub fn new(x: (f64, f64), y: (f64, f64), equal: bool) -> Frame {
-        let pad = |(a, b): (f64, f64)| {
-            let span = (b - a).abs().max(1e-6);
-            (a - 0.05 * span, b + 0.05 * span)
+    let (mut x, mut y) = (pad(x), pad(y));
+    let area = (
+        MARGIN.0,
+        MARGIN.2,
+        WIDTH - MARGIN.0 - MARGIN.1,
+        HEIGHT - MARGIN.2 - MARGIN.3,
+    );
+    if equal {
+        let scale = (area.2 / (x.1 - x.0)).min(area.3 / (y.1 - y.0));
+        let grow = |(a, b): (f64, f64), len: f64| {
+            let extra = len / scale - (b - a);
+            (a - extra / 2.0, b + extra / 2.0)
         };
-        let (mut x, mut y) = (pad(x), pad(y));
-        let area = (
-            MARGIN.0,
-            MARGIN.2,
-            WIDTH - MARGIN.0 - MARGIN.1,
-            HEIGHT - MARGIN.2 - MARGIN.3,
-        );
-        if equal {
-            let scale = (area.2 / (x.1 - x.0)).min(area.3 / (y.1 - y.0));
-            let grow = |(a, b): (f64, f64), len: f64| {
-                let extra = len / scale - (b - a);
-                (a - extra / 2.0, b + extra / 2.0)
-            };
-            x = grow(x, area.2);
-            y = grow(y, area.3);
-        }
-        Frame { x, y, area }
+        x = grow(x, area.2);
+        y = grow(y, area.3);
     }
-    fn sx(&self, v: f64) -> f64 {
-        self.area.0 + (v - self.x.0) / (self.x.1 - self.x.0) * self.area.2
-    }
-    fn sy(&self, v: f64) -> f64 {
-        self.area.1 + (self.y.1 - v) / (self.y.1 - self.y.0) * self.area.3
-    }
-
-    /// A polyline through data points; `None` breaks the line.
-    fn polyline(
-        &self,
-        pts: impl IntoIterator<Item = Option<(f64, f64)>>,
-        colour: &str,
-        dash: &str,
-        width: f64,
-    ) -> Path {
-        let mut data = Data::new();
-        let mut pen_down = false;
-        for p in pts {
-            match p {
-                Some((x, y)) => {
-                    let at = (px(self.sx(x)), px(self.sy(y)));
-                    data = if pen_down {
-                        data.line_to(at)
-                    } else {
-                        data.move_to(at)
-                    };
-                    pen_down = true;
-                }
-                None => pen_down = false,
-            }
-        }
-        Path::new()
-            .set("d", data)
-            .set("fill", "none")
-            .set("stroke", colour)
-            .set("stroke-width", width)
-            .set("stroke-dasharray", dash)
-            .set("stroke-linejoin", "round")
-    }
-
-    /// Axes, grid lines and tick labels.
-    fn axes(&self, x_label: &str, y_label: &str) -> Group {
-        let (l, t, w, h) = self.area;
-        let mut g = Group::new()
-            .set("font-family", "sans-serif")
-            .set("font-size", 12);
-        g = g.add(
-            Rectangle::new()
-                .set("x", px(l))
-                .set("y", px(t))
-                .set("width", px(w))
-                .set("height", px(h))
-                .set("fill", "none")
-                .set("stroke", "#444"),
-        );
-        let xs = tick_step(self.x.1 - self.x.0, w / 80.0);
-        let mut v = (self.x.0 / xs).ceil() * xs;
-        while v <= self.x.1 {
-            let x = px(self.sx(v));
-            g = g.add(
-                Line::new()
-                    .set("x1", x)
-                    .set("x2", x)
-                    .set("y1", px(t))
-                    .set("y2", px(t + h))
-                    .set("stroke", "#ddd"),
-            );
-            g = g.add(
-                Text::new(tick_label(v, xs))
-                    .set("x", x)
-                    .set("y", px(t + h + 16.0))
-                    .set("text-anchor", "middle"),
-            );
-            v += xs;
-        }
-        let ys = tick_step(self.y.1 - self.y.0, h / 60.0);
-        let mut v = (self.y.0 / ys).ceil() * ys;
-        while v <= self.y.1 {
-            let y = px(self.sy(v));
-            g = g.add(
-                Line::new()
-                    .set("x1", px(l))
-                    .set("x2", px(l + w))
-                    .set("y1", y)
-                    .set("y2", y)
-                    .set("stroke", "#ddd"),
-            );
-            g = g.add(
-                Text::new(tick_label(v, ys))
-                    .set("x", px(l - 6.0))
-                    .set("y", px(y as f64 + 4.0))
-                    .set("text-anchor", "end"),
-            );
-            v += ys;
-        }
-        g = g.add(
-            Text::new(x_label)
-                .set("x", px(l + w / 2.0))
-                .set("y", px(t + h + 36.0))
-                .set("text-anchor", "middle"),
-        );
-        g.add(
-            Text::new(y_label)
-                .set("x", px(l - 50.0))
-                .set("y", px(t + h / 2.0))
-                .set("text-anchor", "middle")
-                .set(
-                    "transform",
-                    format!("rotate(-90 {} {})", px(l - 50.0), px(t + h / 2.0)),
-                ),
-        )
-    }
+    let x_ticks = Ticks::inside(x.0, x.1, midpoint_step(x.1 - x.0, area.2 / 80.0));
+    let y_ticks = Ticks::inside(y.0, y.1, midpoint_step(y.1 - y.0, area.3 / 60.0));
+    Frame::new(area, x, y).ticks(x_ticks, y_ticks)
 }
 
-/// One legend line: a sample stroke and a label.
-struct LegendItem {
-    colour: String,
-    dash: &'static str,
-    label: String,
-}
-
-fn legend(items: &[LegendItem], notes: &[String]) -> Group {
-    let x = WIDTH - MARGIN.1 + 16.0;
-    let mut g = Group::new()
-        .set("font-family", "sans-serif")
-        .set("font-size", 12);
-    let mut y = MARGIN.2 + 10.0;
-    for it in items {
-        g = g.add(
-            Line::new()
-                .set("x1", px(x))
-                .set("x2", px(x + 28.0))
-                .set("y1", px(y))
-                .set("y2", px(y))
-                .set("stroke", it.colour.as_str())
-                .set("stroke-width", 2.5)
-                .set("stroke-dasharray", it.dash),
-        );
-        g = g.add(
-            Text::new(it.label.as_str())
-                .set("x", px(x + 34.0))
-                .set("y", px(y + 4.0)),
-        );
-        y += 20.0;
-    }
+/// The legend right of the plot, then each note wrapped to 30 characters in grey.
+fn legend_with_notes(items: &[LegendItem], notes: &[String]) -> Group {
+    let (x, top) = (WIDTH - MARGIN.1 + 16.0, MARGIN.2 + 10.0);
+    let mut g = legend(Look::Sheet, x, top, items);
+    let mut y = top + 20.0 * items.len() as f64;
     for n in notes {
         y += 4.0;
         for line in wrap(n, 30) {
-            g = g.add(
-                Text::new(line)
-                    .set("x", px(x))
-                    .set("y", px(y + 4.0))
-                    .set("fill", "#555"),
-            );
+            g = g.add(bare_text(x, y + 4.0, &line).set("fill", colour::SHEET_NOTE));
             y += 15.0;
         }
     }
     g
 }
 
-/// Break text into lines of at most `width` characters at spaces.
-fn wrap(text: &str, width: usize) -> Vec<String> {
-    let mut lines = vec![String::new()];
-    for word in text.split_whitespace() {
-        let last = lines.last_mut().expect("one line");
-        if !last.is_empty() && last.len() + 1 + word.len() > width {
-            lines.push(word.to_string());
-        } else {
-            if !last.is_empty() {
-                last.push(' ');
-            }
-            last.push_str(word);
-        }
-    }
-    lines
-}
-
 /// A sheet with a title, the caution at the foot and the given content.
 fn sheet(title: &str, subtitle: &str, content: Vec<Group>) -> String {
-    let mut doc = Document::new()
-        .set("xmlns", "http://www.w3.org/2000/svg")
-        .set("viewBox", (0, 0, WIDTH as i32, HEIGHT as i32))
-        .set("width", WIDTH as i32)
-        .set("height", HEIGHT as i32)
-        .add(
-            Rectangle::new()
-                .set("width", "100%")
-                .set("height", "100%")
-                .set("fill", "white"),
-        )
-        .add(
-            Text::new(title)
-                .set("x", MARGIN.0)
-                .set("y", 24)
-                .set("font-family", "sans-serif")
-                .set("font-size", 16)
-                .set("font-weight", "bold"),
-        )
-        .add(
-            Text::new(subtitle)
-                .set("x", MARGIN.0)
-                .set("y", 42)
-                .set("font-family", "sans-serif")
-                .set("font-size", 12),
-        );
+    let mut doc = page(WIDTH, HEIGHT, None)
+        .add(sheet_font(bare_text(MARGIN.0, 24.0, title), 16.0).set("font-weight", "bold"))
+        .add(sheet_font(bare_text(MARGIN.0, 42.0, subtitle), 12.0));
     for c in content {
         doc = doc.add(c);
     }
-    let mut foot = Group::new()
-        .set("font-family", "sans-serif")
-        .set("font-size", 10)
-        .set("fill", "#a00");
-    for (i, line) in wrap(CAUTION, 150).into_iter().enumerate() {
-        foot = foot.add(
-            Text::new(line)
-                .set("x", 12)
-                .set("y", px(HEIGHT - 30.0 + 12.0 * i as f64)),
-        );
-    }
-    doc = doc.add(foot);
+    doc = doc.add(caution_block(Look::Sheet, 12.0, HEIGHT - 30.0, 150).0);
     let mut s = doc.to_string();
     s.push('\n');
     s
@@ -344,7 +113,6 @@ fn infeasible_notes(c: &Comparison) -> Vec<String> {
 /// Every family's heartline elevation on one sheet, one scale on both axes, origin at loop entry.
 pub fn elevation_overlay_svg(c: &Comparison) -> String {
     let mut curves = Vec::new();
-    let (mut xr, mut zr) = ((0.0f64, 0.0f64), (0.0f64, 0.0f64));
     for e in &c.entries {
         let Ok(d) = &e.result else { continue };
         let st = &d.best.path.stations;
@@ -353,23 +121,15 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
             .iter()
             .map(|s| (s.heartline_m.x - entry.x, s.heartline_m.z - entry.z))
             .collect();
-        for &(x, z) in &pts {
-            xr = (xr.0.min(x), xr.1.max(x));
-            zr = (zr.0.min(z), zr.1.max(z));
-        }
         curves.push((e.kind, d.best.summary.loop_height_m, pts));
     }
-    let frame = Frame::new(xr, zr, true);
+    let (xr, zr) = enclose(((0.0, 0.0), (0.0, 0.0)), &curves);
+    let frame = sheet_frame(xr, zr, true);
     let (mut plot, items) =
         family_curves(&frame, &curves, |kind, h| format!("{kind}: {h:.2} m tall"));
-    plot = plot.add(
-        Circle::new()
-            .set("cx", px(frame.sx(0.0)))
-            .set("cy", px(frame.sy(0.0)))
-            .set("r", 4)
-            .set("fill", "black"),
-    );
+    plot = plot.add(dot(frame.x_px(0.0), frame.y_px(0.0), 4.0, "black"));
     let axes = frame.axes(
+        Look::Sheet,
         "X along the entry direction, m (0 = loop entry)",
         "Z (height above entry), m",
     );
@@ -385,12 +145,20 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
     sheet(
         &format!("{}: compare elevations", c.brief.title),
         &subtitle,
-        vec![axes, plot, legend(&items, &notes)],
+        vec![axes, plot, legend_with_notes(&items, &notes)],
     )
 }
 
 /// A family's curve for an overlay: the family, the figure its legend quotes, and the points.
 type FamilyCurve = (ShapeKind, f64, Vec<(f64, f64)>);
+
+/// The x and y ranges `start` grown to take in every point of every curve, in order.
+fn enclose(start: ((f64, f64), (f64, f64)), curves: &[FamilyCurve]) -> ((f64, f64), (f64, f64)) {
+    let points = curves.iter().flat_map(|c| &c.2);
+    points.fold(start, |(xr, yr), &(x, y)| {
+        ((xr.0.min(x), xr.1.max(x)), (yr.0.min(y), yr.1.max(y)))
+    })
+}
 
 /// One solid curve per family in its colour, and the legend entries labelled by `label(kind, figure)`.
 fn family_curves(
@@ -401,17 +169,13 @@ fn family_curves(
     let mut plot = Group::new();
     let mut items = Vec::new();
     for (kind, figure, pts) in curves {
-        plot = plot.add(frame.polyline(
+        plot = plot.add(frame.path(
             pts.iter().map(|p| Some(*p)),
             family_colour(*kind),
             "none",
             2.0,
         ));
-        items.push(LegendItem {
-            colour: family_colour(*kind).into(),
-            dash: "none",
-            label: label(*kind, *figure),
-        });
+        items.push((label(*kind, *figure), family_colour(*kind), None));
     }
     (plot, items)
 }
@@ -420,7 +184,6 @@ fn family_curves(
 pub fn loads_overlay_svg(c: &Comparison) -> String {
     let b = &c.brief;
     let mut curves = Vec::new();
-    let (mut sr, mut gr) = ((0.0f64, 1.0f64), (b.min_top_g.min(0.0), b.max_g));
     for e in &c.entries {
         let Ok(d) = &e.result else { continue };
         let s0 = d.best.path.loop_span_m.0;
@@ -431,33 +194,39 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
             .iter()
             .map(|p| (p.s_m - s0, p.normal_g))
             .collect();
-        for &(s, g) in &pts {
-            sr = (sr.0.min(s), sr.1.max(s));
-            gr = (gr.0.min(g), gr.1.max(g));
-        }
         curves.push((e.kind, d.best.summary.peak_normal_g, pts));
     }
-    let frame = Frame::new(sr, gr, false);
+    let (sr, gr) = enclose(((0.0, 1.0), (b.min_top_g.min(0.0), b.max_g)), &curves);
+    let frame = sheet_frame(sr, gr, false);
     let (mut plot, mut items) = family_curves(&frame, &curves, |kind, peak| {
         format!("{kind}: peak {peak:.2} g")
     });
     let limit = |g: f64, dash: &'static str| {
-        frame.polyline([Some((sr.0, g)), Some((sr.1, g))], "#a00", dash, 1.5)
+        frame.path(
+            [Some((sr.0, g)), Some((sr.1, g))],
+            colour::SHEET_LIMIT,
+            dash,
+            1.5,
+        )
     };
     plot = plot
         .add(limit(b.max_g, "8 4"))
         .add(limit(b.min_top_g, "2 3"));
-    items.push(LegendItem {
-        colour: "#a00".into(),
-        dash: "8 4",
-        label: format!("max_g {:.2} g", b.max_g),
-    });
-    items.push(LegendItem {
-        colour: "#a00".into(),
-        dash: "2 3",
-        label: format!("min_top_g {:.2} g (at top)", b.min_top_g),
-    });
-    let axes = frame.axes("heartline arc length from loop entry, m", "normal load, g");
+    items.push((
+        format!("max_g {:.2} g", b.max_g),
+        colour::SHEET_LIMIT,
+        Some("8 4"),
+    ));
+    items.push((
+        format!("min_top_g {:.2} g (at top)", b.min_top_g),
+        colour::SHEET_LIMIT,
+        Some("2 3"),
+    ));
+    let axes = frame.axes(
+        Look::Sheet,
+        "heartline arc length from loop entry, m",
+        "normal load, g",
+    );
     let mut notes = infeasible_notes(c);
     notes.push("a vertical jump marks a curvature step: its onset is unbounded".into());
     let subtitle = format!(
@@ -467,7 +236,7 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
     sheet(
         &format!("{}: compare loads", b.title),
         &subtitle,
-        vec![axes, plot, legend(&items, &notes)],
+        vec![axes, plot, legend_with_notes(&items, &notes)],
     )
 }
 
@@ -513,7 +282,7 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
     if yr.1 < yr.0 {
         yr = (0.0, 1.0);
     }
-    let frame = Frame::new(xr, yr, false);
+    let frame = sheet_frame(xr, yr, false);
     let mut plot = Group::new();
     let mut items = Vec::new();
     let many_tops = keys.iter().any(|k| k.2 != keys[0].2);
@@ -532,7 +301,7 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
             2.0
         };
         plot = plot.add(
-            frame.polyline(
+            frame.path(
                 pts.iter()
                     .map(|r| value(r).map(|v| (r.point.entry_speed_m_s, v))),
                 colour,
@@ -542,13 +311,12 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
         );
         for r in &pts {
             if let Some(v) = value(r) {
-                plot = plot.add(
-                    Circle::new()
-                        .set("cx", px(frame.sx(r.point.entry_speed_m_s)))
-                        .set("cy", px(frame.sy(v)))
-                        .set("r", 2.5)
-                        .set("fill", colour),
-                );
+                plot = plot.add(dot(
+                    frame.x_px(r.point.entry_speed_m_s),
+                    frame.y_px(v),
+                    2.5,
+                    colour,
+                ));
             }
         }
         let label = if many_tops {
@@ -556,18 +324,14 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
         } else {
             format!("{}, max {:.2} g", key.0, key.1)
         };
-        items.push(LegendItem {
-            colour: colour.into(),
-            dash,
-            label,
-        });
+        items.push((label, colour, Some(dash)));
     }
     let y_label = if tallest {
         "achievable loop height (heartline), m"
     } else {
         "peak normal load, g"
     };
-    let axes = frame.axes("entry speed, m/s", y_label);
+    let axes = frame.axes(Look::Sheet, "entry speed, m/s", y_label);
     let feasible = rows.iter().filter(|r| r.result.is_ok()).count();
     let mut notes = vec![format!(
         "{feasible} of {} designs feasible; gaps are infeasible designs",
@@ -584,6 +348,6 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
     sheet(
         &format!("{title}: sweep"),
         &subtitle,
-        vec![axes, plot, legend(&items, &notes)],
+        vec![axes, plot, legend_with_notes(&items, &notes)],
     )
 }

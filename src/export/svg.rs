@@ -3,18 +3,18 @@
 //! This module owns the elevation: rail centreline and heartline at one scale on both axes, a
 //! legend, a scale bar of round length, dimensions (loop height of the heartline, rail height,
 //! loop footprint), the path length, a title and the caution. [`elevation_svg_many`] draws
-//! several designs at one scale with their entry points on a shared origin; [`Frame`] is the
-//! world → pixel mapping both use. Chart pieces (text, legend, colours) come from [`super::plot`].
+//! several designs at one scale with their entry points on a shared origin. The world → pixel
+//! mapping (one scale on both axes), text, legend, colours and the page come from the chart kit
+//! ([`super::chart`]).
 
-use svg::Document;
-use svg::node::element::{Definitions, Group, Line, Marker, Path, Polyline, Rectangle};
+use svg::node::element::{Definitions, Group, Line, Marker, Path, Rectangle};
 
-use super::dxf::thin_indices;
-use super::plot::{
-    LegendEntry, caution_block, clip, colour, fmt_num, legend, nice_number, points_attr, px, text,
-    wrap,
+use super::chart::{
+    Frame, LegendEntry, Look, Nice, caution_block, clip, colour, fmt_num, legend, nice_number,
+    page, polyline, px, rule, short_num, text, wrap,
 };
-use crate::model::Assessment as Design;
+use super::dxf::thin_indices;
+use crate::model::Assessment;
 
 /// Width of the elevation, px.
 pub const WIDTH_PX: f64 = 1000.0;
@@ -28,41 +28,9 @@ const RIGHT_MANY_PX: f64 = 40.0;
 /// Most points drawn per curve; more add file size but nothing visible at this width.
 const MAX_POINTS: usize = 8000;
 
-/// World (metres, X along entry, Z up) to pixels, one scale on both axes; SVG y is flipped.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Frame {
-    /// Pixels per metre, on both axes.
-    pub scale_px_m: f64,
-    /// World X at the left edge of the drawing area, m.
-    pub x_min_m: f64,
-    /// World Z at the top edge of the drawing area, m.
-    pub z_max_m: f64,
-    /// Pixel position of the drawing area's top-left corner.
-    pub left_px: f64,
-    pub top_px: f64,
-}
-
-impl Frame {
-    /// Pixel (x, y) of world (x, z).
-    pub fn to_px(&self, x_m: f64, z_m: f64) -> (f64, f64) {
-        (
-            self.left_px + (x_m - self.x_min_m) * self.scale_px_m,
-            self.top_px + (self.z_max_m - z_m) * self.scale_px_m,
-        )
-    }
-
-    /// World (x, z) of pixel (x, y).
-    pub fn to_world(&self, x_px: f64, y_px: f64) -> (f64, f64) {
-        (
-            self.x_min_m + (x_px - self.left_px) / self.scale_px_m,
-            self.z_max_m - (y_px - self.top_px) / self.scale_px_m,
-        )
-    }
-}
-
 /// World bounds (x_min, x_max, z_min, z_max) of the rail and heartline of every design, always
 /// including the shared origin; a range under 1 m is widened so the scale stays finite.
-fn bounds(designs: &[&Design]) -> (f64, f64, f64, f64) {
+fn bounds(designs: &[&Assessment]) -> (f64, f64, f64, f64) {
     let (mut x0, mut x1, mut z0, mut z1) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
     for d in designs {
         for st in &d.best.path.stations {
@@ -85,16 +53,15 @@ fn bounds(designs: &[&Design]) -> (f64, f64, f64, f64) {
 }
 
 /// SVG text of the elevation of one design.
-pub fn elevation_svg(design: &Design) -> String {
+pub fn elevation_svg(design: &Assessment) -> String {
     elevation_svg_many(&[design])
 }
 
 /// SVG text of the elevations of several designs at one scale, entry points on a shared origin.
 /// One design gets rail and heartline colours and its dimensions; several get one colour each
 /// (heartline solid, rail dashed) and their heights in the legend.
-pub fn elevation_svg_many(designs: &[&Design]) -> String {
+pub fn elevation_svg_many(designs: &[&Assessment]) -> String {
     let single = designs.len() == 1;
-    let mut doc = Document::new();
     let mut y = 32.0;
 
     // Title block.
@@ -127,15 +94,9 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
     let (x_min, x_max, z_min, z_max) = bounds(designs);
     let avail_w = WIDTH_PX - LEFT_PX - if single { RIGHT_PX } else { RIGHT_MANY_PX };
     let scale = (avail_w / (x_max - x_min)).min(MAX_DRAWING_HEIGHT_PX / (z_max - z_min));
-    let frame = Frame {
-        scale_px_m: scale,
-        x_min_m: x_min,
-        z_max_m: z_max,
-        left_px: LEFT_PX,
-        top_px: y,
-    };
-    let bottom = y + (z_max - z_min) * scale;
-    let right = LEFT_PX + (x_max - x_min) * scale;
+    let frame = Frame::uniform(LEFT_PX, y, scale, (x_min, x_max), (z_min, z_max));
+    let bottom = frame.top + frame.height;
+    let right = frame.left + frame.width;
 
     let mut track = Group::new().set("id", "track");
     let mut entries: Vec<(String, &str, Option<&str>)> = Vec::new();
@@ -161,14 +122,10 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
             let c = colour::SERIES[i % colour::SERIES.len()];
             (c, c, Some("7 4"))
         };
-        let mut rail_line = polyline(&rail, rail_colour, if single { 2.6 } else { 1.6 })
-            .set("id", format!("rail-{i}"));
-        if let Some(dash) = rail_dash {
-            rail_line = rail_line.set("stroke-dasharray", dash);
-        }
+        let rail_width = if single { 2.6 } else { 1.6 };
         track = track
-            .add(rail_line)
-            .add(polyline(&heart, heart_colour, 2.0).set("id", format!("heartline-{i}")));
+            .add(polyline(&rail, rail_colour, rail_width, rail_dash).set("id", format!("rail-{i}")))
+            .add(polyline(&heart, heart_colour, 2.0, None).set("id", format!("heartline-{i}")));
         if single {
             entries.push(("rail centreline".into(), rail_colour, None));
             entries.push(("heartline".into(), heart_colour, None));
@@ -265,46 +222,17 @@ pub fn elevation_svg_many(designs: &[&Design]) -> String {
         .collect();
     let legend_end = bar_y + 20.0 * legend_entries.len() as f64;
     let caution_y = legend_end.max(bar_y + 34.0) + 22.0;
-    let (caution, last) = caution_block(LEFT_PX, caution_y, 130);
+    let (caution, last) = caution_block(Look::Drawing, LEFT_PX, caution_y, 130);
     let height = (last + 20.0).ceil();
 
-    doc = doc
-        .set("width", WIDTH_PX)
-        .set("height", height)
-        .set("viewBox", (0, 0, WIDTH_PX, height))
-        .add(arrow_defs())
-        .add(
-            Rectangle::new()
-                .set("width", "100%")
-                .set("height", "100%")
-                .set("fill", "white"),
-        )
+    page(WIDTH_PX, height, Some(arrow_defs()))
         .add(head)
         .add(track)
         .add(dims)
         .add(bar)
-        .add(legend(legend_x, bar_y, &legend_entries))
-        .add(caution);
-    doc.to_string()
-}
-
-/// A round number without trailing zeros: 10 → "10", 2.5 → "2.5", 0.05 → "0.05".
-fn short_num(v: f64) -> String {
-    let s = fmt_num(v, 6);
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
-}
-
-fn polyline(pts: &[(f64, f64)], stroke: &str, width: f64) -> Polyline {
-    Polyline::new()
-        .set("points", points_attr(pts))
-        .set("fill", "none")
-        .set("stroke", stroke)
-        .set("stroke-width", width)
-        .set("stroke-linejoin", "round")
+        .add(legend(Look::Drawing, legend_x, bar_y, &legend_entries))
+        .add(caution)
+        .to_string()
 }
 
 /// An arrowhead marker, reversed at the start of a line (SVG 2 `auto-start-reverse`).
@@ -326,14 +254,9 @@ fn arrow_defs() -> Definitions {
     )
 }
 
-fn thin_line(x1: f64, y1: f64, x2: f64, y2: f64, stroke: &str, width: f64) -> Line {
-    Line::new()
-        .set("x1", px(x1))
-        .set("y1", px(y1))
-        .set("x2", px(x2))
-        .set("y2", px(y2))
-        .set("stroke", stroke)
-        .set("stroke-width", width)
+/// A line of a dimension: `width_px` wide in `stroke`.
+fn dim_line(x1: f64, y1: f64, x2: f64, y2: f64, stroke: &str, width_px: f64) -> Line {
+    rule(x1, y1, x2, y2, stroke).set("stroke-width", width_px)
 }
 
 /// A vertical dimension at pixel x `x_px` between world points `a` and `b`, with extension lines
@@ -356,10 +279,10 @@ fn vertical_dim(
     let mid = (ay + by) / 2.0;
     let lx = x_px + 14.0;
     Group::new()
-        .add(thin_line(ax + 3.0, ay, x_px + 6.0, ay, ext, 0.8).set("stroke-dasharray", "3 3"))
-        .add(thin_line(bx + 3.0, by, x_px + 6.0, by, ext, 0.8).set("stroke-dasharray", "3 3"))
+        .add(dim_line(ax + 3.0, ay, x_px + 6.0, ay, ext, 0.8).set("stroke-dasharray", "3 3"))
+        .add(dim_line(bx + 3.0, by, x_px + 6.0, by, ext, 0.8).set("stroke-dasharray", "3 3"))
         .add(
-            thin_line(x_px, ay, x_px, by, colour::INK, 1.1)
+            dim_line(x_px, ay, x_px, by, colour::INK, 1.1)
                 .set("marker-start", "url(#arrow)")
                 .set("marker-end", "url(#arrow)"),
         )
@@ -375,15 +298,15 @@ fn horizontal_dim(frame: &Frame, y_px: f64, a: (f64, f64), b: (f64, f64), label:
     let (bx, by) = frame.to_px(b.0, b.1);
     Group::new()
         .add(
-            thin_line(ax, ay + 3.0, ax, y_px + 6.0, colour::HEARTLINE, 0.8)
+            dim_line(ax, ay + 3.0, ax, y_px + 6.0, colour::HEARTLINE, 0.8)
                 .set("stroke-dasharray", "3 3"),
         )
         .add(
-            thin_line(bx, by + 3.0, bx, y_px + 6.0, colour::HEARTLINE, 0.8)
+            dim_line(bx, by + 3.0, bx, y_px + 6.0, colour::HEARTLINE, 0.8)
                 .set("stroke-dasharray", "3 3"),
         )
         .add(
-            thin_line(ax, y_px, bx, y_px, colour::INK, 1.1)
+            dim_line(ax, y_px, bx, y_px, colour::INK, 1.1)
                 .set("marker-start", "url(#arrow)")
                 .set("marker-end", "url(#arrow)"),
         )
@@ -393,7 +316,7 @@ fn horizontal_dim(frame: &Frame, y_px: f64, a: (f64, f64), b: (f64, f64), label:
 /// A scale bar at (x, y) px of a round length near `target_m`, in two halves; returns the group
 /// and its width in px.
 fn scale_bar(x: f64, y: f64, scale_px_m: f64, target_m: f64) -> (Group, f64) {
-    let len_m = nice_number(target_m, true);
+    let len_m = nice_number(target_m, Nice::Round);
     let w = len_m * scale_px_m;
     let half = w / 2.0;
     let label = format!("{} m", short_num(len_m));
@@ -441,7 +364,7 @@ pub(crate) mod tests {
 
     /// A lossless circle of top radius 10 m: geometry gives a heartline loop height of 2R = 20 m
     /// and a rail height of 2R + 2h (rail h below the heartline at the bottom, h above at the top).
-    pub(crate) fn circle_design(radius_m: f64) -> Design {
+    pub(crate) fn circle_design(radius_m: f64) -> Assessment {
         let mut brief = Brief::demo();
         brief.shape = ShapeKind::Circle;
         brief.rolling_resistance = 0.0;
@@ -450,7 +373,7 @@ pub(crate) mod tests {
         brief.lateral_shift_m = 0.0;
         let best =
             evaluate(&brief, ShapeKind::Circle, &[], radius_m, 0.05).expect("circle evaluates");
-        Design {
+        Assessment {
             brief,
             shape_labels: vec![],
             verification: best.clone(),
@@ -485,6 +408,12 @@ pub(crate) mod tests {
             }
         }
         out
+    }
+
+    /// True if `svg` shows the caution's first words (the first wrapped line holds them).
+    pub(crate) fn shows_caution(svg: &str) -> bool {
+        let head: Vec<&str> = CAUTION.split_whitespace().take(5).collect();
+        svg.contains(&head.join(" "))
     }
 
     pub(crate) fn by_id<'a>(
@@ -540,16 +469,7 @@ pub(crate) mod tests {
         let width = (lead + r).max(2.0 * lead) - (lead - r).min(0.0);
         assert!((span(&heart, |p| p.0) / px_per_m - width).abs() < tol);
 
-        assert!(
-            svg.contains(
-                CAUTION
-                    .split_whitespace()
-                    .take(4)
-                    .collect::<Vec<_>>()
-                    .join(" ")
-                    .as_str()
-            )
-        );
+        assert!(shows_caution(&svg));
         assert!(svg.contains(&format!(
             "loop height (heartline) {:.2} m",
             d.best.summary.loop_height_m
