@@ -239,18 +239,9 @@ pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
 /// starts (as for every family); the loop proper starts after the losses of the level lead-in,
 /// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
 pub fn ride_context(brief: &Brief) -> RideContext {
-    let (mu, k, l) = (
-        brief.rolling_resistance,
-        brief.drag_per_metre(),
-        brief.lead_length_m,
-    );
-    let g = crate::units::STANDARD_GRAVITY_M_S2;
-    let u0 = brief.entry_speed_m_s.powi(2);
-    let u = if k > 0.0 {
-        (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k
-    } else {
-        u0 - 2.0 * mu * g * l
-    };
+    let u = conditions(brief)
+        .losses()
+        .after_level_run(brief.entry_speed_m_s.powi(2), brief.lead_length_m);
     RideContext {
         entry_speed_m_s: u.max(0.0).sqrt(),
         rolling_resistance: brief.rolling_resistance,
