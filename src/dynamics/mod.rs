@@ -30,15 +30,15 @@
 //! balance of a rigid, inextensible chain of equal masses (first principles). Train-length effects
 //! on coaster loads are discussed in the physics-education literature (e.g. A.-M. Pendrill's
 //! roller-coaster papers in Physics Education — cited from memory, not checked against the text).
-//! With one car it is the point-mass model, operation for operation.
+//! One integrator runs every train; with one car it is the point-mass model ([`simulate`]).
 //!
 //! Cars not on the sampled path (behind the entry while the lead car is near it, or past the exit
 //! while the rear car finishes) run on a straight continuation of the first or last station's
 //! tangent: a virtual extension of the lead track. The entry speed is the train's speed when the
 //! lead car is at the start of the path, the rest of the train behind it on that extension.
 //!
-//! Files: `losses.rs` the loss law; `ride.rs` the ride integrator and the loads it derives;
-//! `train.rs` the train and where each car is along the path.
+//! Files: `losses.rs` the loss law; `ride.rs` the one ride integrator and the loads it derives;
+//! `train.rs` the train, the order in which its cars pass the stations and where each car is.
 //!
 //! ```
 //! use loopwright::{dynamics::{simulate, Conditions}, geometry::Centreline, shape::family, brief::ShapeKind};
@@ -54,8 +54,8 @@ mod ride;
 mod train;
 
 pub use losses::Losses;
-pub use ride::simulate;
-pub use train::{Train, TrainRide, simulate_chain, simulate_train};
+pub use ride::{simulate, simulate_train};
+pub use train::{Train, TrainRide};
 
 /// What the dynamics need beyond the path.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -2,81 +2,171 @@
 
 use nalgebra::Vector3;
 
+use super::train::{Entry, Places, Train, TrainRide, place_buffer, places, schedule};
 use super::{Conditions, LoadPoint, LoadStep, Ride, Stall};
 use crate::geometry::Centreline;
 use crate::units::STANDARD_GRAVITY_M_S2 as G;
 
 /// Specific force the seat applies at speed² `u`, before the tangential loss term.
-pub(super) fn perpendicular_force(
-    u: f64,
-    kvec: &Vector3<f64>,
-    tangent: &Vector3<f64>,
-) -> Vector3<f64> {
+fn perpendicular_force(u: f64, kvec: &Vector3<f64>, tangent: &Vector3<f64>) -> Vector3<f64> {
     let up = Vector3::new(0.0, 0.0, G);
     // Centripetal part plus the part of "up" (−g⃗) perpendicular to the track.
     u * kvec + (up - up.dot(tangent) * tangent)
 }
 
-/// Run the train along the path.
-pub fn simulate(path: &Centreline, cond: &Conditions) -> Result<Ride, Stall> {
-    let st = &path.stations;
-    let n = st.len();
+/// How the train moves: at every entry of its schedule, the speed², the loss rate d(losses)/ds,
+/// the mean over the cars of the tangent's vertical part (mean sin θ) and the time.
+struct Motion {
+    cars: usize,
+    entries: Vec<Entry>,
+    speed_sq: Vec<f64>,
+    speed_m_s: Vec<f64>,
+    loss_rate: Vec<f64>,
+    mean_sin_pitch: Vec<f64>,
+    time_s: Vec<f64>,
+}
+
+/// The integrator's means over the cars at one entry of the schedule, of a function of a car's
+/// height, unit tangent and curvature vector.
+#[inline]
+fn mean(places: &Places, f: impl Fn(f64, &Vector3<f64>, &Vector3<f64>) -> f64) -> f64 {
+    match places {
+        // A lone car's mean is its own value (the sum below starts from −0, so it would give
+        // that value over 1); reading it off the station skips the copy and the division on the
+        // integrator's critical path: the point mass runs hundreds of times per design.
+        Places::Lone(st) => f(st.heartline_m.z, &st.tangent, &st.curvature_vec_1_m),
+        Places::Train(buf) => {
+            buf.iter()
+                .map(|c| f(c.z_m, &c.tangent, &c.kvec))
+                .sum::<f64>()
+                / buf.len() as f64
+        }
+    }
+}
+
+/// The one ride integrator, for a train of any length (one car is the point mass): energy of the
+/// centre of mass, u = v₀² − 2g·(z̄ − z̄₀) − D, with the loss integral D by Heun's method along the
+/// lead car's arc length (see the module docs).
+fn integrate(path: &Centreline, cond: &Conditions, train: &Train) -> Result<Motion, Stall> {
+    let cars = train.cars.max(1);
+    let pitch_m = train.car_pitch_m;
+    let entries = schedule(path, cars, pitch_m);
+    let m = entries.len();
     let v0sq = cond.entry_speed_m_s * cond.entry_speed_m_s;
-    let z0 = st[0].heartline_m.z;
-    let losses_law = cond.losses();
-    let loss_rate = |u: f64, i: usize| {
-        let f = perpendicular_force(u, &st[i].curvature_vec_1_m, &st[i].tangent);
-        losses_law.rate(u, f.norm())
+    let law = cond.losses();
+    let loss_rate = |u: f64, at: &Places| {
+        let contact = mean(at, |_, tangent, kvec| {
+            perpendicular_force(u, kvec, tangent).norm()
+        });
+        law.rate(u, contact)
     };
-    let mut u = vec![0.0; n];
-    let mut rate = vec![0.0; n];
+    let mut buf = place_buffer(cars);
+    let mut u = vec![0.0; m];
+    let mut rate = vec![0.0; m];
+    let mut tzbar = vec![0.0; m];
     let mut losses = 0.0;
+    let at = places(path, &entries[0], pitch_m, &mut buf);
+    let z0 = mean(&at, |z, _, _| z);
+    tzbar[0] = mean(&at, |_, t, _| t.z);
     u[0] = v0sq;
-    rate[0] = loss_rate(v0sq, 0);
-    for i in 1..n {
-        let ds = st[i].s_m - st[i - 1].s_m;
-        let u_free = v0sq - 2.0 * G * (st[i].heartline_m.z - z0);
-        // Heun: predict with the rate at i−1, correct with the mean of both ends.
-        let pred = u_free - (losses + ds * rate[i - 1]);
-        let r_pred = loss_rate(pred.max(0.0), i);
-        losses += 0.5 * ds * (rate[i - 1] + r_pred);
-        u[i] = u_free - losses;
-        if u[i] <= 0.0 {
+    rate[0] = loss_rate(v0sq, &at);
+    for e in 1..m {
+        let at = places(path, &entries[e], pitch_m, &mut buf);
+        let zbar = mean(&at, |z, _, _| z);
+        tzbar[e] = mean(&at, |_, t, _| t.z);
+        let ds = entries[e].s_lead_m - entries[e - 1].s_lead_m;
+        let u_free = v0sq - 2.0 * G * (zbar - z0);
+        // Heun: predict with the rate at e−1, correct with the mean of both ends.
+        let pred = u_free - (losses + ds * rate[e - 1]);
+        let r_pred = loss_rate(pred.max(0.0), &at);
+        losses += 0.5 * ds * (rate[e - 1] + r_pred);
+        u[e] = u_free - losses;
+        if u[e] <= 0.0 {
             return Err(Stall {
-                s_m: st[i].s_m,
-                height_m: st[i].heartline_m.z - z0,
+                s_m: entries[e].s_lead_m,
+                height_m: zbar - z0,
             });
         }
-        rate[i] = loss_rate(u[i], i);
+        rate[e] = loss_rate(u[e], &at);
     }
-    let mut points = Vec::with_capacity(n);
-    let mut time_s = 0.0;
-    for i in 0..n {
-        let v = u[i].sqrt();
-        if i > 0 {
-            let ds = st[i].s_m - st[i - 1].s_m;
-            // Exact for constant acceleration over the interval.
-            time_s += 2.0 * ds / (v + points.last().map_or(v, |p: &LoadPoint| p.speed_m_s));
-        }
-        let f = perpendicular_force(u[i], &st[i].curvature_vec_1_m, &st[i].tangent);
-        points.push(LoadPoint {
-            s_m: st[i].s_m,
-            time_s,
-            speed_m_s: v,
-            normal_g: f.dot(&st[i].head) / G,
-            // Felt forward load is a_t + g·sinθ = −(losses per metre)/2.
-            tangential_g: -rate[i] / (2.0 * G),
-            lateral_g: f.dot(&st[i].left) / G,
-            onset_g_s: 0.0,
-        });
+    let speed: Vec<f64> = u.iter().map(|u| u.sqrt()).collect();
+    let mut time = vec![0.0; m];
+    for e in 1..m {
+        let ds = entries[e].s_lead_m - entries[e - 1].s_lead_m;
+        // Exact for constant acceleration over the interval.
+        time[e] = time[e - 1] + 2.0 * ds / (speed[e] + speed[e - 1]);
     }
+    Ok(Motion {
+        cars,
+        entries,
+        speed_sq: u,
+        speed_m_s: speed,
+        loss_rate: rate,
+        mean_sin_pitch: tzbar,
+        time_s: time,
+    })
+}
+
+/// Car `car`'s loads at each station, the moment it passes it.
+fn car_ride(path: &Centreline, motion: &Motion, car: usize) -> Ride {
+    let st = &path.stations;
+    let mut points: Vec<LoadPoint> = (motion.entries.iter().enumerate())
+        .filter(|(_, entry)| entry.car == car)
+        .map(|(e, entry)| {
+            let s = &st[entry.station];
+            let u = motion.speed_sq[e];
+            let f = perpendicular_force(u, &s.curvature_vec_1_m, &s.tangent);
+            // Felt forward load a_t + g·sin θⱼ = g·(sin θⱼ − mean sin θ) − (losses per metre)/2.
+            // A lone car has no couplers: its first term is exactly zero, and leaving it out
+            // keeps the sign of a zero load (−0 on lossless level track).
+            let losses_g = motion.loss_rate[e] / (2.0 * G);
+            let tangential_g = if motion.cars == 1 {
+                -losses_g
+            } else {
+                (s.tangent.z - motion.mean_sin_pitch[e]) - losses_g
+            };
+            LoadPoint {
+                s_m: s.s_m,
+                time_s: motion.time_s[e],
+                speed_m_s: motion.speed_m_s[e],
+                normal_g: f.dot(&s.head) / G,
+                tangential_g,
+                lateral_g: f.dot(&s.left) / G,
+                onset_g_s: 0.0,
+            }
+        })
+        .collect();
+    // Each car's points are in station order: its keys never decrease and the sort is stable.
     fill_onset(path, &mut points);
     let steps = steps_of(path, &points);
-    Ok(Ride { points, steps })
+    Ride { points, steps }
+}
+
+/// Run one car (the point mass) along the path.
+pub fn simulate(path: &Centreline, cond: &Conditions) -> Result<Ride, Stall> {
+    let motion = integrate(path, cond, &Train::single())?;
+    Ok(car_ride(path, &motion, 0))
+}
+
+/// Run a train along the path (see the module docs for the model); one car is [`simulate`].
+pub fn simulate_train(
+    path: &Centreline,
+    cond: &Conditions,
+    train: &Train,
+) -> Result<TrainRide, Stall> {
+    let motion = integrate(path, cond, train)?;
+    let cars = train.cars.max(1);
+    Ok(TrainRide {
+        train: Train {
+            cars,
+            car_pitch_m: train.car_pitch_m,
+        },
+        cars: (0..cars).map(|j| car_ride(path, &motion, j)).collect(),
+    })
 }
 
 /// dn/dt by central differences (one-sided at the ends of each smooth piece).
-pub(super) fn fill_onset(path: &Centreline, points: &mut [LoadPoint]) {
+fn fill_onset(path: &Centreline, points: &mut [LoadPoint]) {
     let st = &path.stations;
     let n = points.len();
     for i in 0..n {
@@ -92,7 +182,7 @@ pub(super) fn fill_onset(path: &Centreline, points: &mut [LoadPoint]) {
     }
 }
 
-pub(super) fn steps_of(path: &Centreline, points: &[LoadPoint]) -> Vec<LoadStep> {
+fn steps_of(path: &Centreline, points: &[LoadPoint]) -> Vec<LoadStep> {
     let st = &path.stations;
     (1..points.len())
         .filter(|&i| st[i].piece != st[i - 1].piece)

@@ -1,11 +1,10 @@
-//! Trains: N equal cars as a rigid chain, each car's place along the path.
+//! Trains: N equal cars as a rigid chain; which car passes which station when, and where every
+//! car is at that moment. The ride integrator (`ride.rs`) runs on this schedule.
 
 use nalgebra::Vector3;
 
-use super::ride::{fill_onset, perpendicular_force, simulate, steps_of};
-use super::{Conditions, LoadPoint, Ride, Stall};
-use crate::geometry::Centreline;
-use crate::units::STANDARD_GRAVITY_M_S2 as G;
+use super::Ride;
+use crate::geometry::{Centreline, Station};
 
 /// A train: `cars` equal cars, `car_pitch_m` apart along the heartline (car 0 leads).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -41,10 +40,10 @@ pub struct TrainRide {
 
 /// Where a car is: height, unit tangent and curvature vector of the heartline there.
 #[derive(Debug, Clone, Copy)]
-struct CarPlace {
-    z_m: f64,
-    tangent: Vector3<f64>,
-    kvec: Vector3<f64>,
+pub(super) struct CarPlace {
+    pub z_m: f64,
+    pub tangent: Vector3<f64>,
+    pub kvec: Vector3<f64>,
 }
 
 /// The path at any arc length: cubic Hermite height (dz/ds = T_z, error O(h⁴)) and linear tangent
@@ -90,136 +89,80 @@ fn place_at(path: &Centreline, s: f64) -> CarPlace {
     }
 }
 
-/// Run a train along the path (see the module docs for the model). A one-car train gives exactly
-/// [`simulate`]'s ride.
-pub fn simulate_train(
-    path: &Centreline,
-    cond: &Conditions,
-    train: &Train,
-) -> Result<TrainRide, Stall> {
-    // A one-car chain is the point mass (the general integration below reproduces it exactly, see
-    // `simulate_chain` and its test); the point-mass code is several times cheaper, and the
-    // optimiser calls this hundreds of times per design.
-    if train.cars <= 1 {
-        return Ok(TrainRide {
-            train: *train,
-            cars: vec![simulate(path, cond)?],
-        });
-    }
-    simulate_chain(path, cond, train)
+/// One step of the ride: car `car` passes station `station` while the lead car is at `s_lead_m`.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Entry {
+    pub s_lead_m: f64,
+    pub car: usize,
+    pub station: usize,
 }
 
-/// The rigid-chain integration behind [`simulate_train`] for any number of cars, one included.
-pub fn simulate_chain(
-    path: &Centreline,
-    cond: &Conditions,
-    train: &Train,
-) -> Result<TrainRide, Stall> {
+/// Every (car, station) passing in the order they happen, for `cars` cars `pitch_m` apart. One car
+/// gives the stations themselves, in order, with `s_lead_m` their own arc length.
+pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entry> {
     let st = &path.stations;
-    let n = st.len();
-    let cars = train.cars.max(1);
-    let ncars = cars as f64;
-    let pitch = train.car_pitch_m;
-    // One entry per (car, station): the lead car's position when that car passes that station.
     // Sorted by a running maximum of the position, so that each car keeps its stations in path
     // order even where rounding makes the two stations at a curvature step differ by an ulp.
-    let mut keyed: Vec<(f64, (f64, usize, usize))> = Vec::with_capacity(n * cars);
-    for j in 0..cars {
+    let mut keyed: Vec<(f64, Entry)> = Vec::with_capacity(st.len() * cars);
+    for car in 0..cars {
         let mut run = f64::MIN;
-        for (i, s) in st.iter().enumerate() {
-            let s_lead = s.s_m + j as f64 * pitch;
-            run = run.max(s_lead);
-            keyed.push((run, (s_lead, j, i)));
+        for (station, s) in st.iter().enumerate() {
+            let s_lead_m = s.s_m + car as f64 * pitch_m;
+            run = run.max(s_lead_m);
+            keyed.push((
+                run,
+                Entry {
+                    s_lead_m,
+                    car,
+                    station,
+                },
+            ));
         }
     }
     keyed.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let entries: Vec<(f64, usize, usize)> = keyed.into_iter().map(|(_, e)| e).collect();
-    // Every car's place at an entry (computed as the integration reaches it, so memory stays
-    // O(entries)); the car named by the entry is exactly on its station.
-    let place_all = |e: usize, buf: &mut Vec<CarPlace>| {
-        let (s_lead, jj, i) = entries[e];
-        buf.clear();
-        buf.extend((0..cars).map(|k| {
-            if k == jj {
-                CarPlace {
-                    z_m: st[i].heartline_m.z,
-                    tangent: st[i].tangent,
-                    kvec: st[i].curvature_vec_1_m,
-                }
-            } else {
-                place_at(path, s_lead - k as f64 * pitch)
+    keyed.into_iter().map(|(_, e)| e).collect()
+}
+
+/// The buffer [`places`] fills for `cars` cars: empty for a lone car, which is read off its station.
+pub(super) fn place_buffer(cars: usize) -> Vec<CarPlace> {
+    let unset = CarPlace {
+        z_m: 0.0,
+        tangent: Vector3::zeros(),
+        kvec: Vector3::zeros(),
+    };
+    vec![unset; if cars > 1 { cars } else { 0 }]
+}
+
+/// Where the cars are at one entry of the schedule.
+pub(super) enum Places<'a> {
+    /// The only car, on its station.
+    Lone(&'a Station),
+    /// Every car's place, front car first.
+    Train(&'a [CarPlace]),
+}
+
+/// Every car's place at `entry` (written into `buf`, one slot per car, for a train); the car the
+/// entry names is exactly on its station.
+pub(super) fn places<'a>(
+    path: &'a Centreline,
+    entry: &Entry,
+    pitch_m: f64,
+    buf: &'a mut [CarPlace],
+) -> Places<'a> {
+    let st = &path.stations[entry.station];
+    if buf.is_empty() {
+        return Places::Lone(st);
+    }
+    for (k, slot) in buf.iter_mut().enumerate() {
+        *slot = if k == entry.car {
+            CarPlace {
+                z_m: st.heartline_m.z,
+                tangent: st.tangent,
+                kvec: st.curvature_vec_1_m,
             }
-        }));
-    };
-    let mean =
-        |buf: &[CarPlace], f: &dyn Fn(&CarPlace) -> f64| buf.iter().map(f).sum::<f64>() / ncars;
-    let m = entries.len();
-    let v0sq = cond.entry_speed_m_s * cond.entry_speed_m_s;
-    let losses_law = cond.losses();
-    let loss_rate = |u: f64, buf: &[CarPlace]| {
-        let load = mean(buf, &|c| perpendicular_force(u, &c.kvec, &c.tangent).norm());
-        losses_law.rate(u, load)
-    };
-    let mut buf = Vec::with_capacity(cars);
-    let mut u = vec![0.0; m];
-    let mut rate = vec![0.0; m];
-    let mut tzbar = vec![0.0; m];
-    let mut losses = 0.0;
-    place_all(0, &mut buf);
-    let z0 = mean(&buf, &|c| c.z_m);
-    tzbar[0] = mean(&buf, &|c| c.tangent.z);
-    u[0] = v0sq;
-    rate[0] = loss_rate(v0sq, &buf);
-    for e in 1..m {
-        place_all(e, &mut buf);
-        let zbar = mean(&buf, &|c| c.z_m);
-        tzbar[e] = mean(&buf, &|c| c.tangent.z);
-        let ds = entries[e].0 - entries[e - 1].0;
-        let u_free = v0sq - 2.0 * G * (zbar - z0);
-        let pred = u_free - (losses + ds * rate[e - 1]);
-        let r_pred = loss_rate(pred.max(0.0), &buf);
-        losses += 0.5 * ds * (rate[e - 1] + r_pred);
-        u[e] = u_free - losses;
-        if u[e] <= 0.0 {
-            return Err(Stall {
-                s_m: entries[e].0,
-                height_m: zbar - z0,
-            });
-        }
-        rate[e] = loss_rate(u[e], &buf);
+        } else {
+            place_at(path, entry.s_lead_m - k as f64 * pitch_m)
+        };
     }
-    let mut time = vec![0.0; m];
-    for e in 1..m {
-        let ds = entries[e].0 - entries[e - 1].0;
-        time[e] = time[e - 1] + 2.0 * ds / (u[e].sqrt() + u[e - 1].sqrt());
-    }
-    let mut rides: Vec<Vec<LoadPoint>> = vec![Vec::with_capacity(n); cars];
-    for (e, &(_, j, i)) in entries.iter().enumerate() {
-        let f = perpendicular_force(u[e], &st[i].curvature_vec_1_m, &st[i].tangent);
-        rides[j].push(LoadPoint {
-            s_m: st[i].s_m,
-            time_s: time[e],
-            speed_m_s: u[e].sqrt(),
-            normal_g: f.dot(&st[i].head) / G,
-            tangential_g: (st[i].tangent.z - tzbar[e]) - rate[e] / (2.0 * G),
-            lateral_g: f.dot(&st[i].left) / G,
-            onset_g_s: 0.0,
-        });
-    }
-    let cars_out = rides
-        .into_iter()
-        .map(|mut points| {
-            // Each car's points are in station order: its keys never decrease and the sort is stable.
-            fill_onset(path, &mut points);
-            let steps = steps_of(path, &points);
-            Ride { points, steps }
-        })
-        .collect();
-    Ok(TrainRide {
-        train: Train {
-            cars,
-            car_pitch_m: pitch,
-        },
-        cars: cars_out,
-    })
+    Places::Train(buf)
 }
