@@ -31,11 +31,13 @@
 //! ```
 
 pub mod fit;
+mod frame;
 
 use nalgebra::Vector3;
 use std::f64::consts::PI;
 
 use crate::shape::{CurvatureProfile, CurvatureSegment, SegmentKind};
+pub use frame::{RiderFrame, StationPlace};
 
 /// One sample of the path.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -388,25 +390,17 @@ fn planar_station(
     piece: usize,
     in_loop: bool,
 ) -> Station {
-    let (sn, cs) = pitch_rad.sin_cos();
-    let tangent = Vector3::new(cs, 0.0, sn);
     // Inside the loop the rider's head points to the centre of curvature.
-    let head = Vector3::new(-sn, 0.0, cs);
-    let left = head.cross(&tangent);
+    let frame = RiderFrame::planar(pitch_rad, curvature_1_m);
     let heartline_m = Vector3::new(x, 0.0, z);
-    Station {
+    let place = StationPlace {
         s_m,
-        heartline_m,
-        rail_m: heartline_m - heartline_height_m * head,
-        tangent,
-        head,
-        left,
         pitch_rad,
-        curvature_1_m,
-        curvature_vec_1_m: curvature_1_m * head,
         piece,
         in_loop,
-    }
+    };
+    let rail_m = heartline_m - heartline_height_m * frame.head;
+    Station::from_frame(place, heartline_m, rail_m, frame)
 }
 
 /// Default lateral shift, m: one train envelope width (the rule is in [`crate::brief::defaults`]).
@@ -473,33 +467,24 @@ impl Centreline {
                     excess += half * w * d2 / ((1.0 + d2).sqrt() + 1.0);
                 }
             }
-            let s_true = sigma + excess;
             let (y, dy, ddy) = lateral_offset(shift_m, a, len, sigma);
             // The planar tangent is (cos θ, 0, sin θ): reuse it rather than recompute sin_cos.
             let (sn, cs) = (st.tangent.z, st.tangent.x);
             // Planar curvature of the profile (κ about the left axis of the unshifted loop).
             let k = st.curvature_1_m;
+            // r′ and r″ in the planar arc length σ; the head keeps the planar loop's direction.
             let rp = Vector3::new(cs, dy, sn);
-            let speed = rp.norm();
-            let tangent = rp / speed;
             let rpp = Vector3::new(-k * sn, ddy, k * cs);
-            let curvature_vec_1_m = (rpp - rpp.dot(&tangent) * tangent) / (speed * speed);
-            let head = Vector3::new(-sn, 0.0, cs);
-            let left = head.cross(&tangent);
+            let frame = RiderFrame::from_derivatives(rp, rpp, st.head);
             let heartline_m = Vector3::new(st.heartline_m.x, y, st.heartline_m.z);
-            stations.push(Station {
-                s_m: s_true,
-                heartline_m,
-                rail_m: heartline_m - h * head,
-                tangent,
-                head,
-                left,
+            let place = StationPlace {
+                s_m: sigma + excess,
                 pitch_rad: st.pitch_rad,
-                curvature_1_m: curvature_vec_1_m.dot(&head),
-                curvature_vec_1_m,
                 piece: st.piece,
                 in_loop: st.in_loop,
-            });
+            };
+            let rail_m = heartline_m - h * frame.head;
+            stations.push(Station::from_frame(place, heartline_m, rail_m, frame));
         }
         // Planar arc lengths of boundaries are station arc lengths; map them to the true ones.
         let to_true = |sigma: f64| {
