@@ -23,7 +23,7 @@
 //!
 //! ```
 //! use loopwright::{geometry::Centreline, shape::{family}, brief::ShapeKind};
-//! let profile = family(ShapeKind::Circle).curvature(&[], 10.0).unwrap();
+//! let profile = family(ShapeKind::Circle).unwrap().curvature(&[], 10.0).unwrap();
 //! let c = Centreline::build(&profile, 1.1, 0.05);
 //! // A circle of radius 10 m tops out 20 m up and comes back to where it started.
 //! assert!((c.top().heartline_m.z - 20.0).abs() < 1e-9);
@@ -555,7 +555,7 @@ mod tests {
     #[test]
     fn loops_leave_level_at_entry_height() {
         for kind in ShapeKind::ALL {
-            let f = family(kind);
+            let f = family(kind).unwrap();
             let p = f
                 .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
                 .unwrap();
@@ -597,7 +597,7 @@ mod tests {
     // Geometry of Curves and Surfaces", §1-5), so |Δs − chord| must stay within that bound.
     #[test]
     fn shifted_arc_length_is_true_3d_arc_length() {
-        let f = family(ShapeKind::Clothoid);
+        let f = family(ShapeKind::Clothoid).unwrap();
         let p = f
             .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
             .unwrap();

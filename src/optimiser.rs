@@ -17,7 +17,7 @@
 //! A brief no shape can meet yields [`Infeasible`], which says which limit binds and the nearest
 //! value that would work.
 
-mod force_first;
+pub mod force_first;
 
 pub use force_first::ProfileCost;
 
@@ -36,7 +36,7 @@ use crate::checks::{
 };
 use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
 use crate::geometry::Centreline;
-use crate::shape::{CurvatureProfile, Profile, RideContext, ShapeFamily, family};
+use crate::shape::{CurvatureProfile, ShapeFamily, family};
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -171,10 +171,14 @@ pub fn evaluate_shifted(
             "the profile family needs a [profile] table in the brief".into(),
         ));
     }
-    let fam = family_for(brief, kind);
-    let profile = fam
-        .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
-        .map_err(|e| EvalFailure::Shape(e.to_string()))?;
+    let (profile, sized) = match family(kind) {
+        Some(fam) => (
+            fam.curvature_with_leads(shape, top_radius_m, brief.lead_length_m),
+            true,
+        ),
+        None => (force_first::curvature(brief, shape), false),
+    };
+    let profile = profile.map_err(|e| EvalFailure::Shape(e.to_string()))?;
     let path = Centreline::build_shifted(
         &profile,
         brief.heartline_height_m,
@@ -182,10 +186,10 @@ pub fn evaluate_shifted(
         lateral_shift_m,
     );
     // A force-first loop's size comes from the ride: report the top radius it actually has.
-    let top_radius_m = if fam.size_from_ride() {
-        1.0 / path.top().curvature_1_m
-    } else {
+    let top_radius_m = if sized {
         top_radius_m
+    } else {
+        1.0 / path.top().curvature_1_m
     };
     let cond = conditions(brief);
     let train = simulate_train(&path, &cond, &train_of(brief)).map_err(EvalFailure::Stall)?;
@@ -222,31 +226,6 @@ pub fn train_of(brief: &Brief) -> Train {
 pub enum EvalFailure {
     Shape(String),
     Stall(Stall),
-}
-
-/// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
-/// load profile and ride (entry speed and losses); the others are pure geometry.
-pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
-    match (kind, &brief.profile) {
-        (ShapeKind::Profile, Some(spec)) => {
-            Box::new(Profile::new(spec.clone(), ride_context(brief)))
-        }
-        _ => family(kind),
-    }
-}
-
-/// The ride a force-first family is solved for. The brief's entry speed is where the lead-in
-/// starts (as for every family); the loop proper starts after the losses of the level lead-in,
-/// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
-pub fn ride_context(brief: &Brief) -> RideContext {
-    let u = conditions(brief)
-        .losses()
-        .after_level_run(brief.entry_speed_m_s.powi(2), brief.lead_length_m);
-    RideContext {
-        entry_speed_m_s: u.max(0.0).sqrt(),
-        rolling_resistance: brief.rolling_resistance,
-        drag_per_metre: brief.drag_per_metre(),
-    }
 }
 
 /// Dynamics conditions from a brief.
@@ -500,7 +479,7 @@ fn first_true(n: usize, mut pred: impl FnMut(usize) -> bool) -> Option<usize> {
 
 /// Heartline height per metre of top radius for a shape (geometry only; loops of one shape are similar).
 pub fn height_per_radius(kind: ShapeKind, shape: &[f64]) -> Option<f64> {
-    let p = family(kind).curvature(shape, 1.0).ok()?;
+    let p = family(kind)?.curvature(shape, 1.0).ok()?;
     Some(Centreline::build(&p, 0.0, 0.01).loop_height_m())
 }
 
@@ -513,11 +492,12 @@ pub struct ShapeCost<'a> {
 
 impl ShapeCost<'_> {
     fn in_bounds(&self, shape: &[f64]) -> bool {
-        family(self.kind)
-            .shape_bounds()
-            .iter()
-            .zip(shape)
-            .all(|((lo, hi), v)| v >= lo && v <= hi)
+        family(self.kind).is_some_and(|f| {
+            f.shape_bounds()
+                .iter()
+                .zip(shape)
+                .all(|((lo, hi), v)| v >= lo && v <= hi)
+        })
     }
 
     /// Cost of a shape: lower is better; feasible shapes cost below 1e3.
@@ -724,10 +704,9 @@ pub fn design(brief: &Brief) -> Result<Design, Infeasible> {
 
 /// Design the loop the brief asks for with a given family.
 pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Design, Infeasible> {
-    if family_for(brief, kind).size_from_ride() {
-        return crate::optimiser::force_first::design_profile(brief, kind);
-    }
-    let fam = family(kind);
+    let Some(fam) = family(kind) else {
+        return force_first::design_profile(brief, kind);
+    };
     let counter = AtomicUsize::new(0);
     let shape = search_shape(brief, fam.as_ref(), &counter);
     let r = match brief.objective {
@@ -917,7 +896,9 @@ fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -
 /// Whether a height-objective brief is feasible, without building explanations (no recursion).
 fn design_family_quiet(brief: &Brief, kind: ShapeKind) -> bool {
     let counter = AtomicUsize::new(0);
-    let fam = family(kind);
+    let Some(fam) = family(kind) else {
+        return false;
+    };
     let shape = search_shape(brief, fam.as_ref(), &counter);
     let Objective::Height { height_m } = brief.objective else {
         return false;
@@ -1073,7 +1054,7 @@ fn describe_lower_failures(brief: &Brief, s: &Summary, nearest: &mut Vec<Nearest
 
 /// Total heartline turn of a family's loop, rad (2π by construction; used by tests).
 pub fn total_turn_rad(kind: ShapeKind, shape: &[f64]) -> Option<f64> {
-    let p = family(kind).curvature(shape, 1.0).ok()?;
+    let p = family(kind)?.curvature(shape, 1.0).ok()?;
     let l = p.length_m();
     Some(p.pitch_rad(l) / (2.0 * PI) * 2.0 * PI)
 }

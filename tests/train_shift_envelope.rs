@@ -13,6 +13,7 @@ use loopwright::units::STANDARD_GRAVITY_M_S2 as G;
 
 fn circle_path(r: f64, lead_m: f64, shift_m: f64) -> Centreline {
     let p = family(ShapeKind::Circle)
+        .unwrap()
         .curvature_with_leads(&[], r, lead_m)
         .unwrap();
     Centreline::build_shifted(&p, 1.1, 0.05, shift_m)
@@ -29,7 +30,7 @@ fn one_car_train_is_the_point_mass_exactly() {
         drag_per_metre: 2.45e-4,
     };
     for kind in ShapeKind::ALL {
-        let f = family(kind);
+        let f = family(kind).unwrap();
         let p = f
             .curvature_with_leads(&f.default_shape(), 7.0, 5.0)
             .unwrap();
@@ -100,7 +101,7 @@ fn one_car_train_is_the_point_mass_exactly() {
 /// Issue floor: zero shift gives back the planar loop (geometry and loads to rounding).
 #[test]
 fn zero_shift_is_the_planar_loop() {
-    let f = family(ShapeKind::Clothoid);
+    let f = family(ShapeKind::Clothoid).unwrap();
     let p = f
         .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
         .unwrap();
@@ -570,7 +571,7 @@ fn plot_lines_describe_each_level() {
 /// principles; the smootherstep puts the two branches almost a full shift apart at the crossing).
 #[test]
 fn shifted_loop_clears_itself_and_planar_does_not() {
-    let f = family(ShapeKind::Clothoid);
+    let f = family(ShapeKind::Clothoid).unwrap();
     let p = f
         .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
         .unwrap();

@@ -42,7 +42,7 @@
 //!
 //! ```
 //! use loopwright::{dynamics::{simulate, Conditions}, geometry::Centreline, shape::family, brief::ShapeKind};
-//! let c = Centreline::build(&family(ShapeKind::Circle).curvature(&[], 10.0).unwrap(), 1.1, 0.05);
+//! let c = Centreline::build(&family(ShapeKind::Circle).unwrap().curvature(&[], 10.0).unwrap(), 1.1, 0.05);
 //! let ride = simulate(&c, &Conditions::lossless(25.0)).unwrap();
 //! // Bottom of a circle entered at v: n = 1 + v²/(gR).
 //! let g = loopwright::units::STANDARD_GRAVITY_M_S2;

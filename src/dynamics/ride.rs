@@ -202,6 +202,7 @@ mod tests {
     fn circle(r: f64) -> Centreline {
         Centreline::build(
             &family(ShapeKind::Circle)
+                .unwrap()
                 .curvature_with_leads(&[], r, 3.0)
                 .unwrap(),
             1.1,
@@ -245,7 +246,7 @@ mod tests {
     // Energy conservation (lossless): ½v² + g·z constant to 1e-9 relative (first principles).
     #[test]
     fn lossless_energy_is_conserved() {
-        let f = family(ShapeKind::Clothoid);
+        let f = family(ShapeKind::Clothoid).unwrap();
         let path = Centreline::build(
             &f.curvature_with_leads(&[0.6], 7.0, 5.0).unwrap(),
             1.1,
