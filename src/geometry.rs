@@ -22,7 +22,7 @@
 //!
 //! ```
 //! use loopwright::{geometry::Centreline, shape::{family}, brief::ShapeKind};
-//! let profile = family(ShapeKind::Circle).curvature(&[], 10.0).unwrap();
+//! let profile = family(ShapeKind::Circle).unwrap().curvature(&[], 10.0).unwrap();
 //! let c = Centreline::build(&profile, 1.1, 0.05);
 //! // A circle of radius 10 m tops out 20 m up and comes back to where it started.
 //! assert!((c.top().heartline_m.z - 20.0).abs() < 1e-9);
@@ -30,12 +30,14 @@
 //! ```
 
 pub mod fit;
+mod frame;
 
 use nalgebra::Vector3;
 
 use crate::numeric::GL4;
 use crate::shape::CurvatureProfile;
 use crate::shape::piece::{Accuracy, CurvePiece, PieceWalk};
+pub use frame::{RiderFrame, StationPlace};
 
 /// One sample of the path.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -205,25 +207,17 @@ fn planar_station(
     piece: usize,
     in_loop: bool,
 ) -> Station {
-    let (sn, cs) = pitch_rad.sin_cos();
-    let tangent = Vector3::new(cs, 0.0, sn);
     // Inside the loop the rider's head points to the centre of curvature.
-    let head = Vector3::new(-sn, 0.0, cs);
-    let left = head.cross(&tangent);
+    let frame = RiderFrame::planar(pitch_rad, curvature_1_m);
     let heartline_m = Vector3::new(x, 0.0, z);
-    Station {
+    let place = StationPlace {
         s_m,
-        heartline_m,
-        rail_m: heartline_m - heartline_height_m * head,
-        tangent,
-        head,
-        left,
         pitch_rad,
-        curvature_1_m,
-        curvature_vec_1_m: curvature_1_m * head,
         piece,
         in_loop,
-    }
+    };
+    let rail_m = heartline_m - heartline_height_m * frame.head;
+    Station::from_frame(place, heartline_m, rail_m, frame)
 }
 
 /// Default lateral shift, m: one train envelope width (the rule is in [`crate::brief::defaults`]).
@@ -290,33 +284,24 @@ impl Centreline {
                     excess += half * w * d2 / ((1.0 + d2).sqrt() + 1.0);
                 }
             }
-            let s_true = sigma + excess;
             let (y, dy, ddy) = lateral_offset(shift_m, a, len, sigma);
             // The planar tangent is (cos θ, 0, sin θ): reuse it rather than recompute sin_cos.
             let (sn, cs) = (st.tangent.z, st.tangent.x);
             // Planar curvature of the profile (κ about the left axis of the unshifted loop).
             let k = st.curvature_1_m;
+            // r′ and r″ in the planar arc length σ; the head keeps the planar loop's direction.
             let rp = Vector3::new(cs, dy, sn);
-            let speed = rp.norm();
-            let tangent = rp / speed;
             let rpp = Vector3::new(-k * sn, ddy, k * cs);
-            let curvature_vec_1_m = (rpp - rpp.dot(&tangent) * tangent) / (speed * speed);
-            let head = Vector3::new(-sn, 0.0, cs);
-            let left = head.cross(&tangent);
+            let frame = RiderFrame::from_derivatives(rp, rpp, st.head);
             let heartline_m = Vector3::new(st.heartline_m.x, y, st.heartline_m.z);
-            stations.push(Station {
-                s_m: s_true,
-                heartline_m,
-                rail_m: heartline_m - h * head,
-                tangent,
-                head,
-                left,
+            let place = StationPlace {
+                s_m: sigma + excess,
                 pitch_rad: st.pitch_rad,
-                curvature_1_m: curvature_vec_1_m.dot(&head),
-                curvature_vec_1_m,
                 piece: st.piece,
                 in_loop: st.in_loop,
-            });
+            };
+            let rail_m = heartline_m - h * frame.head;
+            stations.push(Station::from_frame(place, heartline_m, rail_m, frame));
         }
         // Planar arc lengths of boundaries are station arc lengths; map them to the true ones.
         let to_true = |sigma: f64| {
@@ -369,7 +354,7 @@ mod tests {
     #[test]
     fn loops_leave_level_at_entry_height() {
         for kind in ShapeKind::ALL {
-            let f = family(kind);
+            let f = family(kind).unwrap();
             let p = f
                 .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
                 .unwrap();
@@ -411,7 +396,7 @@ mod tests {
     // Geometry of Curves and Surfaces", §1-5), so |Δs − chord| must stay within that bound.
     #[test]
     fn shifted_arc_length_is_true_3d_arc_length() {
-        let f = family(ShapeKind::Clothoid);
+        let f = family(ShapeKind::Clothoid).unwrap();
         let p = f
             .curvature_with_leads(&f.default_shape(), 8.0, 5.0)
             .unwrap();

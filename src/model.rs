@@ -233,7 +233,12 @@ fn centreline(
             shape,
             top_radius_m,
         } => {
-            let profile = family(*kind)
+            let fam = family(*kind).ok_or_else(|| {
+                EvalFailure::Shape(format!(
+                    "the {kind} family's curvature depends on the ride: it is solved by the optimiser, not sized"
+                ))
+            })?;
+            let profile = fam
                 .curvature_with_leads(shape, *top_radius_m, brief.lead_length_m)
                 .map_err(|e| EvalFailure::Shape(e.to_string()))?;
             Ok(family_loop(*kind, shape, profile))

@@ -113,7 +113,10 @@ fn circle_with_losses_matches_brute_force_rk4() {
     use loopwright::geometry::Centreline;
     use loopwright::shape::family;
     let r = 9.0;
-    let p = family(ShapeKind::Circle).curvature(&[], r).unwrap();
+    let p = family(ShapeKind::Circle)
+        .unwrap()
+        .curvature(&[], r)
+        .unwrap();
     let path = Centreline::build(&p, 1.1, 0.02);
     let cond = Conditions {
         entry_speed_m_s: 26.0,

@@ -21,10 +21,11 @@
 mod common;
 
 use loopwright::brief::{Brief, BriefInput, ShapeKind};
-use loopwright::dynamics::{Conditions, simulate};
+use loopwright::dynamics::{Conditions, Losses, simulate};
 use loopwright::geometry::Centreline;
-use loopwright::optimiser::{design_family, family_for, ride_context};
-use loopwright::shape::{Profile, RideContext};
+use loopwright::optimiser::design_family;
+use loopwright::optimiser::force_first::{ProfileSolver, curvature, solver};
+use loopwright::shape::LoadProfile;
 use loopwright::units::STANDARD_GRAVITY_M_S2 as G;
 use std::f64::consts::PI;
 
@@ -38,11 +39,11 @@ fn profile_brief(extra: &str) -> Brief {
 #[test]
 fn constant_load_gives_the_constant_normal_force_track() {
     let n = 3.0;
-    let b = profile_brief(
+    let mut b = profile_brief(
         "[profile]\nangles_deg = [0.0, 180.0]\nnormal_g = [3.0, 3.0]\ntransition_deg = 0.0\n",
     );
-    let fam = family_for(&b, ShapeKind::Profile);
-    let profile = fam.curvature_with_leads(&[n, n], 1.0, 0.0).unwrap();
+    b.lead_length_m = 0.0;
+    let profile = curvature(&b, &[n, n]).unwrap();
     let path = Centreline::build(&profile, 1.1, 0.05);
     let ride = simulate(&path, &Conditions::lossless(25.0)).unwrap();
     let u0 = 625.0;
@@ -93,9 +94,8 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     );
     b.rolling_resistance = 0.015;
     b.drag_area_m2 = 1.0;
-    let fam = family_for(&b, ShapeKind::Profile);
-    let shape = fam.default_shape();
-    let profile = fam.curvature_with_leads(&shape, 1.0, 3.0).unwrap();
+    let shape = b.profile.clone().unwrap().normal_g;
+    let profile = curvature(&b, &shape).unwrap();
     let path = Centreline::build(&profile, 1.1, 0.05);
     let cond = Conditions {
         entry_speed_m_s: 25.0,
@@ -103,8 +103,7 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
         drag_per_metre: b.drag_per_metre(),
     };
     let ride = simulate(&path, &cond).unwrap();
-    let spec = b.profile.clone().unwrap();
-    let target = Profile::new(spec, ride_context(&b)).target(&shape);
+    let target = LoadProfile::new(b.profile.clone().unwrap()).target(&shape);
     let t_rad = 25f64.to_radians();
     let mut worst: f64 = 0.0;
     let mut grid = String::new();
@@ -125,9 +124,7 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     assert!((path.stations.last().unwrap().pitch_rad - 2.0 * PI).abs() < 1e-9);
     // The exit height the solver predicted (its own RK4) is where the geometry stage's integration
     // of the curvature pieces ends: two integrations of the same loop agree.
-    let solved = Profile::new(b.profile.clone().unwrap(), ride_context(&b))
-        .solve(&shape)
-        .unwrap();
+    let solved = solver(&b).unwrap().solve(&shape).unwrap();
     let exit_z = path.stations.last().unwrap().heartline_m.z;
     eprintln!(
         "exit height {exit_z:.6} m, solver {:.6} m",
@@ -160,12 +157,7 @@ fn solve_err(loads: &[f64], angles: &str, transition: f64, speed: f64) -> String
     .unwrap()
     .profile
     .unwrap();
-    let ride = RideContext {
-        entry_speed_m_s: speed,
-        rolling_resistance: 0.0,
-        drag_per_metre: 0.0,
-    };
-    Profile::new(spec, ride)
+    ProfileSolver::new(LoadProfile::new(spec), speed, Losses::NONE)
         .solve(loads)
         .unwrap_err()
         .to_string()

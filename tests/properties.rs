@@ -149,7 +149,7 @@ fn results_converge_as_sampling_is_refined() {
     use loopwright::optimiser::evaluate;
     let b = Brief::demo();
     for kind in ShapeKind::ALL {
-        let shape = loopwright::shape::family(kind).default_shape();
+        let shape = loopwright::shape::family(kind).unwrap().default_shape();
         let coarse = evaluate(&b, kind, &shape, 8.0, 0.2).unwrap().summary;
         let fine = evaluate(&b, kind, &shape, 8.0, 0.025).unwrap().summary;
         assert!(

@@ -54,7 +54,10 @@ fn natural_spline_matches_scipy() {
 fn spline_family_curvature_matches_scipy() {
     let shape = [0.3, 0.75, 0.9];
     let r = 9.0;
-    let p = family(ShapeKind::Spline).curvature(&shape, r).unwrap();
+    let p = family(ShapeKind::Spline)
+        .unwrap()
+        .curvature(&shape, r)
+        .unwrap();
     let len = p.length_m();
     assert!((p.pitch_rad(len) - 2.0 * PI).abs() < 1e-12);
     let points: Vec<(f64, f64)> = (0..=100)

@@ -41,7 +41,7 @@
 
 use nalgebra::{Matrix3, SymmetricEigen, Vector3};
 
-use super::{Centreline, Station};
+use super::{Centreline, RiderFrame, Station, StationPlace};
 use crate::numeric::{GL5, PiecewiseCubic, cubic_pieces};
 
 /// Largest tilt of the loop's plane from vertical, degrees.
@@ -426,9 +426,8 @@ pub fn fit_centreline(
                 1.0 / l.kappa_given
             )));
         }
-        let speed = l.d1.norm();
-        let tangent = l.d1 / speed;
-        let curvature_vec_1_m = (l.d2 - tangent * l.d2.dot(&tangent)) / (speed * speed);
+        let frame = RiderFrame::from_derivatives(l.d1, l.d2, l.head);
+        let tangent = frame.tangent;
         let mut th = tangent.dot(&e_z).atan2(tangent.dot(&e_a));
         if let Some(p) = pitch_prev {
             th += (2.0 * std::f64::consts::PI) * ((p - th) / (2.0 * std::f64::consts::PI)).round();
@@ -439,19 +438,13 @@ pub fn fit_centreline(
             PointsAre::Rail => (l.given + head * hh, l.given),
             PointsAre::Heartline => (l.given, l.given - head * opts.heartline_height_m),
         };
-        stations.push(Station {
+        let place = StationPlace {
             s_m: s_h,
-            heartline_m,
-            rail_m,
-            tangent,
-            head,
-            left: head.cross(&tangent),
             pitch_rad: th,
-            curvature_1_m: curvature_vec_1_m.dot(&head),
-            curvature_vec_1_m,
             piece: 0,
             in_loop: false,
-        });
+        };
+        stations.push(Station::from_frame(place, heartline_m, rail_m, frame));
         Ok(())
     };
     push(0.0, 0.0)?;

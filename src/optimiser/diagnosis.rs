@@ -203,7 +203,9 @@ fn min_speed_for_height(brief: &Brief, kind: ShapeKind, counter: &AtomicUsize) -
 /// Whether a height-objective brief is feasible, without building explanations (no recursion).
 fn design_family_quiet(brief: &Brief, kind: ShapeKind) -> bool {
     let counter = AtomicUsize::new(0);
-    let fam = family(kind);
+    let Some(fam) = family(kind) else {
+        return false;
+    };
     let Ok(search) = search_shape(brief, fam.as_ref(), &counter) else {
         return false; // a solver failure is not a feasible design
     };

@@ -1,5 +1,8 @@
 //! Design with the force-first `profile` family: the loads as written, or tuned.
 //!
+//! The curvature comes from the solver ([`solve`]): [`curvature`] turns a brief and control loads
+//! into the loop's [`CurvatureProfile`], for [`super::evaluate`] to ride and check.
+//!
 //! A force-first loop has no free size (the ride sets it), so there is no size search. With
 //! `tune = false` the brief's control loads are used exactly and the result is checked. With
 //! `tune = true`, [`ProfileCost`] (an argmin `CostFunction` over the control loads) is minimised
@@ -8,16 +11,45 @@
 //! exactly by shifting all control loads by one common offset (bisection: a higher load everywhere
 //! makes a smaller loop).
 
+mod solve;
+
+pub use solve::{ProfileSolver, SolvedProfile};
+
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::neldermead::NelderMead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{
-    Assessment, EvalFailure, Evaluation, Infeasible, Nearest, conclude, curve_of, eval_failure,
-    evaluate, family_for,
+    Assessment, EvalFailure, Evaluation, Infeasible, Nearest, SolverFailure, conclude, conditions,
+    curve_of, eval_failure, evaluate, solver_failure,
 };
 use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::limits::{LimitKind, limits_of};
+use crate::shape::{CurvatureProfile, LoadProfile, ShapeError};
+
+/// The solver for the brief's target load profile (`None` without a `[profile]` table). The
+/// brief's entry speed is where the lead-in starts, as for every family; the loop proper starts
+/// after the losses of the level lead-in ([`crate::dynamics::Losses::after_level_run`]).
+pub fn solver(brief: &Brief) -> Option<ProfileSolver> {
+    let spec = brief.profile.as_ref()?;
+    let losses = conditions(brief).losses();
+    let u = losses.after_level_run(brief.entry_speed_m_s.powi(2), brief.lead_length_m);
+    Some(ProfileSolver::new(
+        LoadProfile::new(spec.clone()),
+        u.max(0.0).sqrt(),
+        losses,
+    ))
+}
+
+/// The brief's force-first loop for control loads `shape`, with the brief's lead track.
+pub fn curvature(brief: &Brief, shape: &[f64]) -> Result<CurvatureProfile, ShapeError> {
+    let solver = solver(brief).ok_or_else(|| ShapeError {
+        family: ShapeKind::Profile.name(),
+        message: "needs a [profile] table in the brief".into(),
+    })?;
+    let segments = solver.solve(shape)?.segments;
+    Ok(CurvatureProfile::with_leads(segments, brief.lead_length_m))
+}
 
 /// Weight of a limit violation (per g, g/s or m) against the objective.
 const PENALTY: f64 = 1000.0;
@@ -109,7 +141,8 @@ fn tune(
     x0: Vec<f64>,
     bounds: &[(f64, f64)],
     counter: &AtomicUsize,
-) -> Vec<f64> {
+) -> Result<Vec<f64>, SolverFailure> {
+    const SOLVER: &str = "control-load tuning (Nelder-Mead)";
     let problem = ProfileCost {
         brief,
         kind,
@@ -127,30 +160,32 @@ fn tune(
         };
         simplex.push(v);
     }
-    let found = match NelderMead::new(simplex).with_sd_tolerance(1e-6) {
-        Ok(solver) => Executor::new(
-            ProfileCost {
-                brief,
-                kind,
-                bounds,
-                counter,
-            },
-            solver,
-        )
-        .configure(|s| s.max_iters(150))
-        .run()
-        .ok()
-        .and_then(|r| r.state().get_best_param().cloned())
-        .unwrap_or_else(|| x0.clone()),
-        Err(_) => x0.clone(),
-    };
+    let solver = NelderMead::new(simplex)
+        .with_sd_tolerance(1e-6)
+        .map_err(|e| SolverFailure::argmin(SOLVER, e))?;
+    let res = Executor::new(
+        ProfileCost {
+            brief,
+            kind,
+            bounds,
+            counter,
+        },
+        solver,
+    )
+    .configure(|s| s.max_iters(150))
+    .run()
+    .map_err(|e| SolverFailure::argmin(SOLVER, e))?;
+    let found = res.state().get_best_param().cloned().ok_or(SolverFailure {
+        solver: SOLVER,
+        reason: "no result".into(),
+    })?;
     let found = problem.clamp(&found);
     if let Objective::Height { height_m } = brief.objective
         && let Some(shifted) = match_height(&problem, &found, height_m)
     {
-        return shifted;
+        return Ok(shifted);
     }
-    found
+    Ok(found)
 }
 
 /// Shift every control load by one offset so the loop is `height_m` tall (bisection on the offset).
@@ -194,7 +229,6 @@ fn match_height(problem: &ProfileCost<'_>, shape: &[f64], height_m: f64) -> Opti
 
 /// Design a force-first loop for the brief.
 pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infeasible> {
-    let fam = family_for(brief, kind);
     let spec = brief.profile.as_ref().ok_or_else(|| Infeasible {
         shape: kind,
         reasons: vec![
@@ -202,24 +236,26 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infe
         ],
         nearest: vec![],
     })?;
+    let target = LoadProfile::new(spec.clone());
     let counter = AtomicUsize::new(0);
     let shape = if spec.tune {
         tune(
             brief,
             kind,
-            fam.default_shape(),
-            fam.shape_bounds(),
+            target.written_loads(),
+            target.bounds(),
             &counter,
         )
+        .map_err(|e| solver_failure(kind, e))?
     } else {
-        fam.default_shape()
+        target.written_loads()
     };
     let curve = curve_of(brief, kind, &shape, 1.0).map_err(|e| eval_failure(brief, kind, e))?;
     conclude(
         brief,
         kind,
         &curve,
-        fam.shape_labels().to_vec(),
+        target.labels().to_vec(),
         counter.load(Ordering::Relaxed) + 2,
         |verdict| {
             let mut reasons = Vec::new();

@@ -18,7 +18,7 @@
 //! value that would work.
 
 mod diagnosis;
-mod force_first;
+pub mod force_first;
 mod shape;
 mod size;
 
@@ -39,7 +39,7 @@ use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::Verdict;
 use crate::geometry::Centreline;
 use crate::model::{self, Curve};
-use crate::shape::{Profile, RideContext, ShapeFamily, family};
+use crate::shape::family;
 
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
@@ -77,17 +77,11 @@ pub fn curve_of<'a>(
     shape: &'a [f64],
     top_radius_m: f64,
 ) -> Result<Curve<'a>, EvalFailure> {
-    if kind != ShapeKind::Profile {
+    if family(kind).is_some() {
         return Ok(Curve::family(kind, shape, top_radius_m));
     }
-    if brief.profile.is_none() {
-        return Err(EvalFailure::Shape(
-            "the profile family needs a [profile] table in the brief".into(),
-        ));
-    }
-    let profile = family_for(brief, kind)
-        .curvature_with_leads(shape, top_radius_m, brief.lead_length_m)
-        .map_err(|e| EvalFailure::Shape(e.to_string()))?;
+    let profile =
+        force_first::curvature(brief, shape).map_err(|e| EvalFailure::Shape(e.to_string()))?;
     Ok(Curve::Solved {
         kind,
         shape,
@@ -110,43 +104,9 @@ pub fn evaluate_shifted(
     model::evaluate(brief, &curve, spacing_m, lateral_shift_m)
 }
 
-/// The family of `kind` for this brief: the force-first `profile` family gets the brief's target
-/// load profile and ride (entry speed and losses); the others are pure geometry.
-pub fn family_for(brief: &Brief, kind: ShapeKind) -> Box<dyn ShapeFamily> {
-    match (kind, &brief.profile) {
-        (ShapeKind::Profile, Some(spec)) => {
-            Box::new(Profile::new(spec.clone(), ride_context(brief)))
-        }
-        _ => family(kind),
-    }
-}
-
-/// The ride a force-first family is solved for. The brief's entry speed is where the lead-in
-/// starts (as for every family); the loop proper starts after the losses of the level lead-in,
-/// d(v²)/ds = −2μg − k·v², i.e. v² = (v₀² + 2μg/k)·e^(−kL) − 2μg/k (v₀² − 2μgL without drag).
-pub fn ride_context(brief: &Brief) -> RideContext {
-    let (mu, k, l) = (
-        brief.rolling_resistance,
-        brief.drag_per_metre(),
-        brief.lead_length_m,
-    );
-    let g = crate::units::STANDARD_GRAVITY_M_S2;
-    let u0 = brief.entry_speed_m_s.powi(2);
-    let u = if k > 0.0 {
-        (u0 + 2.0 * mu * g / k) * (-k * l).exp() - 2.0 * mu * g / k
-    } else {
-        u0 - 2.0 * mu * g * l
-    };
-    RideContext {
-        entry_speed_m_s: u.max(0.0).sqrt(),
-        rolling_resistance: brief.rolling_resistance,
-        drag_per_metre: brief.drag_per_metre(),
-    }
-}
-
 /// Heartline height per metre of top radius for a shape (geometry only; loops of one shape are similar).
 pub fn height_per_radius(kind: ShapeKind, shape: &[f64]) -> Option<f64> {
-    let p = family(kind).curvature(shape, 1.0).ok()?;
+    let p = family(kind)?.curvature(shape, 1.0).ok()?;
     Some(Centreline::build(&p, 0.0, 0.01).loop_height_m())
 }
 
@@ -168,10 +128,9 @@ pub fn design(brief: &Brief) -> Result<Assessment, Infeasible> {
 
 /// Design the loop the brief asks for with a given family.
 pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infeasible> {
-    if family_for(brief, kind).size_from_ride() {
-        return crate::optimiser::force_first::design_profile(brief, kind);
-    }
-    let fam = family(kind);
+    let Some(fam) = family(kind) else {
+        return force_first::design_profile(brief, kind);
+    };
     let counter = AtomicUsize::new(0);
     let failed = |e: size::SolverFailure| solver_failure(kind, e);
     let search = shape::search_shape(brief, fam.as_ref(), &counter).map_err(failed)?;
@@ -245,7 +204,7 @@ pub(crate) fn conclude(
 
 /// Total heartline turn of a family's loop, rad (2π by construction; used by tests).
 pub fn total_turn_rad(kind: ShapeKind, shape: &[f64]) -> Option<f64> {
-    let p = family(kind).curvature(shape, 1.0).ok()?;
+    let p = family(kind)?.curvature(shape, 1.0).ok()?;
     let l = p.length_m();
     Some(p.pitch_rad(l) / (2.0 * PI) * 2.0 * PI)
 }

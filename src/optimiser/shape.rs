@@ -36,11 +36,12 @@ pub struct ShapeCost<'a> {
 
 impl ShapeCost<'_> {
     fn in_bounds(&self, shape: &[f64]) -> bool {
-        family(self.kind)
-            .shape_bounds()
-            .iter()
-            .zip(shape)
-            .all(|((lo, hi), v)| v >= lo && v <= hi)
+        family(self.kind).is_some_and(|f| {
+            f.shape_bounds()
+                .iter()
+                .zip(shape)
+                .all(|((lo, hi), v)| v >= lo && v <= hi)
+        })
     }
 
     /// Cost of a shape: lower is better; feasible shapes cost below [`COST_INFEASIBLE`]. The size

@@ -9,11 +9,13 @@
 //! Every family is one file implementing [`ShapeFamily`]. Its size is always the heartline radius
 //! of curvature at the top of the loop, `top_radius_m`, so that the optimiser can treat all
 //! families alike: for fixed shape parameters the loop is geometrically similar at every size.
+//! The force-first `profile` is the exception: `profile.rs` holds only its target load profile,
+//! whose curvature depends on the ride and is solved by the optimiser's force-first stage.
 //!
 //! ```
 //! use loopwright::shape::{family, CurvatureProfile};
 //! use loopwright::brief::ShapeKind;
-//! let circle = family(ShapeKind::Circle);
+//! let circle = family(ShapeKind::Circle).unwrap();
 //! let profile = circle.curvature(&[], 10.0).unwrap();
 //! // A full circle of radius 10 m turns through 2π over 2π·10 m.
 //! assert!((profile.length_m() - 2.0 * std::f64::consts::PI * 10.0).abs() < 1e-9);
@@ -28,7 +30,7 @@ mod spline;
 
 pub use circle::Circle;
 pub use clothoid::Clothoid;
-pub use profile::{Profile, RideContext, SolvedProfile, TargetLoad};
+pub use profile::{LoadProfile, TargetLoad};
 pub use spline::Spline;
 
 use crate::brief::ShapeKind;
@@ -249,12 +251,6 @@ pub trait ShapeFamily: Send + Sync {
     fn shape_bounds(&self) -> &'static [(f64, f64)];
     /// A sensible starting shape for the optimiser.
     fn default_shape(&self) -> Vec<f64>;
-    /// Whether the size follows from the ride (entry speed and losses) instead of `top_radius_m`.
-    /// Such families (force-first `profile`) ignore the size argument; the optimiser does not
-    /// search a size for them.
-    fn size_from_ride(&self) -> bool {
-        false
-    }
     /// The loop proper (without lead track) for these parameters at this top radius.
     fn loop_segments(
         &self,
@@ -273,28 +269,7 @@ pub trait ShapeFamily: Send + Sync {
         lead_m: f64,
     ) -> Result<CurvatureProfile, ShapeError> {
         let name = self.kind().name();
-        if shape.len() != self.shape_bounds().len() {
-            return Err(ShapeError {
-                family: name,
-                message: format!(
-                    "expects {} shape parameters, got {}",
-                    self.shape_bounds().len(),
-                    shape.len()
-                ),
-            });
-        }
-        for ((v, (lo, hi)), label) in shape
-            .iter()
-            .zip(self.shape_bounds())
-            .zip(self.shape_labels())
-        {
-            if !v.is_finite() || v < lo || v > hi {
-                return Err(ShapeError {
-                    family: name,
-                    message: format!("{label} = {v} is outside {lo}..{hi}"),
-                });
-            }
-        }
+        check_parameters(name, shape, self.shape_bounds(), self.shape_labels())?;
         if !(top_radius_m.is_finite() && top_radius_m > 0.0) {
             return Err(ShapeError {
                 family: name,
@@ -308,14 +283,43 @@ pub trait ShapeFamily: Send + Sync {
     }
 }
 
-/// The family implementing `kind`.
-pub fn family(kind: ShapeKind) -> Box<dyn ShapeFamily> {
+/// Check shape parameters against a family's count, bounds and labels (for the message).
+pub fn check_parameters(
+    family: &'static str,
+    shape: &[f64],
+    bounds: &[(f64, f64)],
+    labels: &[&str],
+) -> Result<(), ShapeError> {
+    if shape.len() != bounds.len() {
+        return Err(ShapeError {
+            family,
+            message: format!(
+                "expects {} shape parameters, got {}",
+                bounds.len(),
+                shape.len()
+            ),
+        });
+    }
+    for ((v, (lo, hi)), label) in shape.iter().zip(bounds).zip(labels) {
+        if !v.is_finite() || v < lo || v > hi {
+            return Err(ShapeError {
+                family,
+                message: format!("{label} = {v} is outside {lo}..{hi}"),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// The family implementing `kind`: the families sized by their top radius ([`ShapeKind::ALL`]).
+/// `None` for the force-first `profile`, whose curvature follows from the ride: the optimiser's
+/// force-first stage solves it from the brief's [`LoadProfile`].
+pub fn family(kind: ShapeKind) -> Option<Box<dyn ShapeFamily>> {
     match kind {
-        ShapeKind::Circle => Box::new(Circle),
-        ShapeKind::Clothoid => Box::new(Clothoid),
-        ShapeKind::Spline => Box::new(Spline),
-        // The demo target at the default speed; a brief's own comes from `Profile::new`.
-        ShapeKind::Profile => Box::new(Profile::default()),
+        ShapeKind::Circle => Some(Box::new(Circle)),
+        ShapeKind::Clothoid => Some(Box::new(Clothoid)),
+        ShapeKind::Spline => Some(Box::new(Spline)),
+        ShapeKind::Profile => None,
     }
 }
 
@@ -329,7 +333,7 @@ mod tests {
     #[test]
     fn every_family_turns_a_full_circle_symmetrically() {
         for kind in ShapeKind::ALL {
-            let f = family(kind);
+            let f = family(kind).unwrap();
             let p = f.curvature(&f.default_shape(), 7.5).unwrap();
             let l = p.length_m();
             assert!((p.pitch_rad(l) - 2.0 * PI).abs() < 1e-12, "{kind}");

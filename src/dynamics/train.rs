@@ -1,0 +1,168 @@
+//! Trains: N equal cars as a rigid chain; which car passes which station when, and where every
+//! car is at that moment. The ride integrator (`ride.rs`) runs on this schedule.
+
+use nalgebra::Vector3;
+
+use super::Ride;
+use crate::geometry::{Centreline, Station};
+
+/// A train: `cars` equal cars, `car_pitch_m` apart along the heartline (car 0 leads).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Train {
+    pub cars: usize,
+    pub car_pitch_m: f64,
+}
+
+impl Train {
+    /// One car: the point-mass model.
+    pub fn single() -> Self {
+        Train {
+            cars: 1,
+            car_pitch_m: 0.0,
+        }
+    }
+    /// Heartline distance from the front car to the rear car, m.
+    pub fn length_m(&self) -> f64 {
+        self.cars.saturating_sub(1) as f64 * self.car_pitch_m
+    }
+    /// Index of the middle car (the front one of the two middle cars for even counts).
+    pub fn middle(&self) -> usize {
+        self.cars.saturating_sub(1) / 2
+    }
+}
+
+/// Every car's ride: `cars[j]` holds car j's loads at each station (the moment it passes it).
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrainRide {
+    pub train: Train,
+    pub cars: Vec<Ride>,
+}
+
+/// Where a car is: height, unit tangent and curvature vector of the heartline there.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct CarPlace {
+    pub z_m: f64,
+    pub tangent: Vector3<f64>,
+    pub kvec: Vector3<f64>,
+}
+
+/// The path at any arc length: cubic Hermite height (dz/ds = T_z, error O(h⁴)) and linear tangent
+/// and curvature between stations; a straight continuation beyond either end.
+fn place_at(path: &Centreline, s: f64) -> CarPlace {
+    let st = &path.stations;
+    let (first, last) = (&st[0], &st[st.len() - 1]);
+    if s <= first.s_m {
+        return CarPlace {
+            z_m: first.heartline_m.z + first.tangent.z * (s - first.s_m),
+            tangent: first.tangent,
+            kvec: Vector3::zeros(),
+        };
+    }
+    if s >= last.s_m {
+        return CarPlace {
+            z_m: last.heartline_m.z + last.tangent.z * (s - last.s_m),
+            tangent: last.tangent,
+            kvec: Vector3::zeros(),
+        };
+    }
+    let hi = st.partition_point(|p| p.s_m <= s).min(st.len() - 1);
+    let (a, b) = (&st[hi - 1], &st[hi]);
+    let h = b.s_m - a.s_m;
+    if h <= 0.0 {
+        return CarPlace {
+            z_m: a.heartline_m.z,
+            tangent: a.tangent,
+            kvec: a.curvature_vec_1_m,
+        };
+    }
+    let t = (s - a.s_m) / h;
+    let (t2, t3) = (t * t, t * t * t);
+    let z = (2.0 * t3 - 3.0 * t2 + 1.0) * a.heartline_m.z
+        + (t3 - 2.0 * t2 + t) * h * a.tangent.z
+        + (-2.0 * t3 + 3.0 * t2) * b.heartline_m.z
+        + (t3 - t2) * h * b.tangent.z;
+    let tangent = (a.tangent * (1.0 - t) + b.tangent * t).normalize();
+    CarPlace {
+        z_m: z,
+        tangent,
+        kvec: a.curvature_vec_1_m * (1.0 - t) + b.curvature_vec_1_m * t,
+    }
+}
+
+/// One step of the ride: car `car` passes station `station` while the lead car is at `s_lead_m`.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Entry {
+    pub s_lead_m: f64,
+    pub car: usize,
+    pub station: usize,
+}
+
+/// Every (car, station) passing in the order they happen, for `cars` cars `pitch_m` apart. One car
+/// gives the stations themselves, in order, with `s_lead_m` their own arc length.
+pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entry> {
+    let st = &path.stations;
+    // Sorted by a running maximum of the position, so that each car keeps its stations in path
+    // order even where rounding makes the two stations at a curvature step differ by an ulp.
+    let mut keyed: Vec<(f64, Entry)> = Vec::with_capacity(st.len() * cars);
+    for car in 0..cars {
+        let mut run = f64::MIN;
+        for (station, s) in st.iter().enumerate() {
+            let s_lead_m = s.s_m + car as f64 * pitch_m;
+            run = run.max(s_lead_m);
+            keyed.push((
+                run,
+                Entry {
+                    s_lead_m,
+                    car,
+                    station,
+                },
+            ));
+        }
+    }
+    keyed.sort_by(|a, b| a.0.total_cmp(&b.0));
+    keyed.into_iter().map(|(_, e)| e).collect()
+}
+
+/// The buffer [`places`] fills for `cars` cars: empty for a lone car, which is read off its station.
+pub(super) fn place_buffer(cars: usize) -> Vec<CarPlace> {
+    let unset = CarPlace {
+        z_m: 0.0,
+        tangent: Vector3::zeros(),
+        kvec: Vector3::zeros(),
+    };
+    vec![unset; if cars > 1 { cars } else { 0 }]
+}
+
+/// Where the cars are at one entry of the schedule.
+pub(super) enum Places<'a> {
+    /// The only car, on its station.
+    Lone(&'a Station),
+    /// Every car's place, front car first.
+    Train(&'a [CarPlace]),
+}
+
+/// Every car's place at `entry` (written into `buf`, one slot per car, for a train); the car the
+/// entry names is exactly on its station.
+pub(super) fn places<'a>(
+    path: &'a Centreline,
+    entry: &Entry,
+    pitch_m: f64,
+    buf: &'a mut [CarPlace],
+) -> Places<'a> {
+    let st = &path.stations[entry.station];
+    if buf.is_empty() {
+        return Places::Lone(st);
+    }
+    for (k, slot) in buf.iter_mut().enumerate() {
+        *slot = if k == entry.car {
+            CarPlace {
+                z_m: st.heartline_m.z,
+                tangent: st.tangent,
+                kvec: st.curvature_vec_1_m,
+            }
+        } else {
+            place_at(path, entry.s_lead_m - k as f64 * pitch_m)
+        };
+    }
+    Places::Train(buf)
+}
