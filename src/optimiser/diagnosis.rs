@@ -180,12 +180,18 @@ pub(crate) fn explain_tallest(
                     ));
                 }
             }
+            // An unbounded onset (a curvature step) fails at every size: no loop is large enough.
+            let step = binding.contains(&"onset")
+                && at(hi_m).is_ok_and(|e| {
+                    crate::checks::limits::onset_for_limit(&e.summary).is_infinite()
+                });
+            binding.retain(|n| !(step && *n == "onset"));
             let what = if binding.is_empty() {
                 "the peak-load, onset and radius limits".to_string()
             } else {
                 format!("the {} limit", binding.join(" and "))
             };
-            reasons.push(match at(lo_m) {
+            let large = match at(lo_m) {
                 Err(EvalFailure::Stall(_)) => format!(
                     "a loop large enough to meet {what} (top radius {lo_m:.2} m or more) stalls before its top"
                 ),
@@ -197,13 +203,27 @@ pub(crate) fn explain_tallest(
                     )
                 }
                 Err(e) => format!("a loop large enough to meet {what} cannot be evaluated: {e}"),
-            });
+            };
+            if !(step && binding.is_empty()) {
+                reasons.push(large);
+            }
         }
         SizeRange::UpperFailsEverywhere => {
-            reasons.push(format!(
-                "even the smallest loop considered (top radius {:.2} m) fails the top-load or height limit, or stalls",
-                radius_grid(brief)[0]
-            ));
+            let r = radius_grid(brief)[0];
+            reasons.push(match at(r) {
+                Err(EvalFailure::Stall(stall)) => format!(
+                    "even the smallest loop considered (top radius {r:.2} m) stalls: at {:.2} m/s {stall}",
+                    brief.entry_speed_m_s
+                ),
+                Ok(e) => {
+                    let mut upper = Vec::new();
+                    format!(
+                        "even the smallest loop considered (top radius {r:.2} m) fails: {}",
+                        describe_failures(brief, &e.summary, Side::Upper, &mut upper)
+                    )
+                }
+                Err(e) => format!("even the smallest loop considered (top radius {r:.2} m): {e}"),
+            });
         }
         SizeRange::LowerFailsEverywhere { hi_m } => {
             if let Ok(e) = at(hi_m) {
