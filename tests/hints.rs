@@ -9,10 +9,9 @@
 //! - Every hint ("nearest feasible value") applied alone, as printed, gives a feasible design: the
 //!   expectation is the hint's own definition, checked by designing the brief with it.
 
-use loopwright::brief::Objective;
 use loopwright::brief::{BriefInput, SpeedText};
 use loopwright::cli::{EXIT_INFEASIBLE, EXIT_OK, EXIT_USAGE, main_with_args};
-use loopwright::optimiser::design_family;
+use loopwright::optimiser::{Nearest, design_family};
 use loopwright::{Brief, ShapeKind};
 use std::path::Path;
 
@@ -24,24 +23,16 @@ fn run(args: &[&str]) -> i32 {
     main_with_args(a)
 }
 
-fn json(path: &Path) -> serde_json::Value {
-    serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
+/// `design` arguments for a coarse, quiet run into `out`, after `head`.
+fn design_args<'a>(head: &[&'a str], out: &'a str) -> Vec<&'a str> {
+    let mut a = vec!["design"];
+    a.extend_from_slice(head);
+    a.extend_from_slice(&["--spacing", "0.2", "--out", out, "--quiet"]);
+    a
 }
 
-/// The brief with one field set to a hint's value (the same fields the hints name).
-fn with_hint(b: &Brief, field: &str, value: f64) -> Brief {
-    let mut b = b.clone();
-    match field {
-        "max_g" => b.max_g = value,
-        "min_top_g" => b.min_top_g = value,
-        "max_onset_g_s" => b.max_onset_g_s = value.is_finite().then_some(value),
-        "max_height_m" => b.max_height_m = value.is_finite().then_some(value),
-        "min_radius_m" => b.min_radius_m = value,
-        "entry_speed" => b.entry_speed_m_s = value,
-        "height_m" => b.objective = Objective::Height { height_m: value },
-        other => panic!("unexpected hint field {other}"),
-    }
-    b
+fn json(path: &Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
 }
 
 /// `--entry-speed 25 --shape circle --max-g 7` without a brief file: the README defaults (name
@@ -51,20 +42,10 @@ fn with_hint(b: &Brief, field: &str, value: f64) -> Brief {
 fn flags_without_a_brief_start_from_the_defaults() {
     let dir = tempfile::tempdir().unwrap();
     let o = dir.path().to_str().unwrap();
-    let args = [
-        "design",
-        "--entry-speed",
-        "25",
-        "--shape",
-        "circle",
-        "--max-g",
-        "7",
-        "--spacing",
-        "0.2",
-        "--out",
+    let args = design_args(
+        &["--entry-speed", "25", "--shape", "circle", "--max-g", "7"],
         o,
-        "--quiet",
-    ];
+    );
     assert_eq!(run(&args), EXIT_OK);
     let j = json(&dir.path().join("loop.json"));
     let brief = &j["brief"];
@@ -93,19 +74,7 @@ fn no_file_and_no_flag_runs_the_demo() {
 fn an_optional_limit_switches_off_from_a_flag() {
     let dir = tempfile::tempdir().unwrap();
     let o = dir.path().to_str().unwrap();
-    let base = [
-        "design",
-        DEMO,
-        "--shape",
-        "circle",
-        "--max-g",
-        "7",
-        "--spacing",
-        "0.2",
-        "--out",
-        o,
-        "--quiet",
-    ];
+    let base = design_args(&[DEMO, "--shape", "circle", "--max-g", "7"], o);
     assert_eq!(run(&base), EXIT_INFEASIBLE);
     for word in ["none", "off", "inf", "None"] {
         let mut a = base.to_vec();
@@ -217,10 +186,21 @@ fn the_height_example_suggests_the_nearest_working_height() {
         .value;
     assert!(h > 18.0 && h < 21.4, "height hint {h}");
     // Nearest: 5 cm closer to the asked height does not design.
-    assert!(design_family(&with_hint(&b, "height_m", h - 0.05), ShapeKind::Clothoid).is_err());
+    assert!(
+        design_family(
+            &Nearest {
+                field: "height_m",
+                value: h - 0.05,
+                unit: "m"
+            }
+            .applied_to(&b),
+            ShapeKind::Clothoid
+        )
+        .is_err()
+    );
     for n in &e.nearest {
         assert!(
-            design_family(&with_hint(&b, n.field, n.value), ShapeKind::Clothoid).is_ok(),
+            design_family(&n.applied_to(&b), ShapeKind::Clothoid).is_ok(),
             "hint {n} fails"
         );
     }
@@ -247,7 +227,17 @@ fn the_circle_message_names_the_binding_limit_with_the_right_direction() {
     );
     let g = e.nearest.iter().find(|n| n.field == "max_g").unwrap().value;
     assert!(g >= 6.2, "{g}");
-    assert!(design_family(&with_hint(&b, "max_g", g), ShapeKind::Circle).is_ok());
+    assert!(
+        design_family(
+            &e.nearest
+                .iter()
+                .find(|n| n.field == "max_g")
+                .unwrap()
+                .applied_to(&b),
+            ShapeKind::Circle
+        )
+        .is_ok()
+    );
 
     let mut demo = Brief::demo();
     demo.max_g = 7.0;
@@ -274,7 +264,7 @@ fn the_max_height_example_suggests_only_working_values() {
     assert!(!e.nearest.is_empty(), "{e}");
     for n in &e.nearest {
         assert!(
-            design_family(&with_hint(&b, n.field, n.value), ShapeKind::Clothoid).is_ok(),
+            design_family(&n.applied_to(&b), ShapeKind::Clothoid).is_ok(),
             "hint {n} fails"
         );
     }
@@ -339,9 +329,7 @@ fn every_hint_applied_alone_designs() {
                         infeasible += 1;
                         for n in &e.nearest {
                             hints += 1;
-                            if let Err(why) =
-                                design_family(&with_hint(&b, n.field, n.value), b.shape)
-                            {
+                            if let Err(why) = design_family(&n.applied_to(&b), b.shape) {
                                 bad.push(format!("{b:?}: hint {n} fails: {why}"));
                             }
                         }

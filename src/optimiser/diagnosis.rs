@@ -195,13 +195,10 @@ pub(crate) fn explain_tallest(
                 Err(EvalFailure::Stall(_)) => format!(
                     "a loop large enough to meet {what} (top radius {lo_m:.2} m or more) stalls before its top"
                 ),
-                Ok(e) => {
-                    let mut upper = Vec::new();
-                    format!(
-                        "a loop large enough to meet {what} (top radius {lo_m:.2} m or more): {}",
-                        describe_failures(brief, &e.summary, Side::Upper, &mut upper)
-                    )
-                }
+                Ok(e) => format!(
+                    "a loop large enough to meet {what} (top radius {lo_m:.2} m or more): {}",
+                    upper_failures(brief, &e.summary)
+                ),
                 Err(e) => format!("a loop large enough to meet {what} cannot be evaluated: {e}"),
             };
             if !(step && binding.is_empty()) {
@@ -215,13 +212,10 @@ pub(crate) fn explain_tallest(
                     "even the smallest loop considered (top radius {r:.2} m) stalls: at {:.2} m/s {stall}",
                     brief.entry_speed_m_s
                 ),
-                Ok(e) => {
-                    let mut upper = Vec::new();
-                    format!(
-                        "even the smallest loop considered (top radius {r:.2} m) fails: {}",
-                        describe_failures(brief, &e.summary, Side::Upper, &mut upper)
-                    )
-                }
+                Ok(e) => format!(
+                    "even the smallest loop considered (top radius {r:.2} m) fails: {}",
+                    upper_failures(brief, &e.summary)
+                ),
                 Err(e) => format!("even the smallest loop considered (top radius {r:.2} m): {e}"),
             });
         }
@@ -286,6 +280,11 @@ fn describe_failures(
     } else {
         parts.join(" and ")
     }
+}
+
+/// The failing limits of the upper side (top load, height) in `s`, described.
+fn upper_failures(brief: &Brief, s: &Summary) -> String {
+    describe_failures(brief, s, Side::Upper, &mut Vec::new())
 }
 
 /// A limit's short name for sentences ("the peak-load limit").
@@ -353,20 +352,34 @@ struct Field {
     may_switch_off: bool,
 }
 
+impl Nearest {
+    /// The brief with this hint applied (the field set to the value; +∞ switches a limit off).
+    /// A field no hint names leaves the brief as it is.
+    pub fn applied_to(&self, brief: &Brief) -> Brief {
+        let (mut b, value) = (brief.clone(), self.value);
+        match self.field {
+            "max_g" => b.max_g = value,
+            "min_top_g" => b.min_top_g = value,
+            "max_onset_g_s" => b.max_onset_g_s = value.is_finite().then_some(value),
+            "max_height_m" => b.max_height_m = value.is_finite().then_some(value),
+            "min_radius_m" => b.min_radius_m = value,
+            "entry_speed" => b.entry_speed_m_s = value,
+            "height_m" => b.objective = Objective::Height { height_m: value },
+            _ => {}
+        }
+        b
+    }
+}
+
 /// The brief with `field` set to `value`, if that is a valid brief (ranges and cross-checks of
 /// [`crate::brief::BriefInput::resolve`]).
-fn with_field(brief: &Brief, field: &str, value: f64) -> Option<Brief> {
-    let mut b = brief.clone();
-    match field {
-        "max_g" => b.max_g = value,
-        "min_top_g" => b.min_top_g = value,
-        "max_onset_g_s" => b.max_onset_g_s = value.is_finite().then_some(value),
-        "max_height_m" => b.max_height_m = value.is_finite().then_some(value),
-        "min_radius_m" => b.min_radius_m = value,
-        "entry_speed" => b.entry_speed_m_s = value,
-        "height_m" => b.objective = Objective::Height { height_m: value },
-        _ => return None,
+fn with_field(brief: &Brief, field: &'static str, value: f64) -> Option<Brief> {
+    let b = Nearest {
+        field,
+        value,
+        unit: "",
     }
+    .applied_to(brief);
     let height_ok = match (b.objective, b.max_height_m) {
         (Objective::Height { height_m }, Some(m)) => height_m <= m,
         _ => true,
@@ -443,7 +456,13 @@ fn value_of(brief: &Brief, field: &str) -> f64 {
 }
 
 /// Whether the brief with `field = value` designs, at the given spacing (no hints inside).
-fn designs(brief: &Brief, kind: ShapeKind, field: &str, value: f64, spacing_m: f64) -> bool {
+fn designs(
+    brief: &Brief,
+    kind: ShapeKind,
+    field: &'static str,
+    value: f64,
+    spacing_m: f64,
+) -> bool {
     let Some(mut b) = with_field(brief, field, value) else {
         return false;
     };
