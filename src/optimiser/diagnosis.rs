@@ -507,7 +507,7 @@ fn nearest_value(brief: &Brief, kind: ShapeKind, f: &Field) -> Option<Nearest> {
     // A one-way limit relaxed as far as it goes must work, or it does not bind on its own.
     if f.relax != Relax::Either && !ok(end(dirs[0])) {
         return (f.may_switch_off && designs(brief, kind, f.name, f64::INFINITY, brief.spacing_m))
-            .then(|| Nearest {
+            .then_some(Nearest {
                 field: f.name,
                 value: f64::INFINITY,
                 unit: f.unit,
