@@ -101,10 +101,10 @@ pub struct BriefArgs {
     #[arg(long, value_name = "G", allow_hyphen_values = true)]
     pub min_top_g: Option<f64>,
     /// Largest rate of change of normal load, g/s; none (also off, inf) for no limit (the default).
-    #[arg(long, value_name = "G_PER_S", allow_hyphen_values = true, value_parser = crate::brief::parse_limit_or_off)]
+    #[arg(long, value_name = "G_PER_S", allow_hyphen_values = true, value_parser = crate::units::parse_limit_or_off)]
     pub max_onset: Option<f64>,
     /// Largest loop height (heartline), m; none (also off, inf) for no limit (the default).
-    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = crate::brief::parse_limit_or_off)]
+    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = crate::units::parse_limit_or_off)]
     pub max_height: Option<f64>,
     /// Smallest heartline radius of curvature anywhere, m (default 4 m, illustrative).
     #[arg(long, value_name = "M", allow_hyphen_values = true)]

@@ -24,7 +24,7 @@ pub use profile::{MAX_PROFILE_POINTS, PROFILE_LOAD_RANGE_G, ProfileInput, Profil
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
-use crate::units::parse_speed_m_s;
+use crate::units::{parse_limit_or_off, parse_speed_m_s};
 
 /// The demo brief shipped in `examples/demo-brief.toml` (an invented scenario).
 pub const DEMO_BRIEF_TOML: &str = include_str!("../../examples/demo-brief.toml");
@@ -241,28 +241,6 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
         ));
     }
     Ok(value)
-}
-
-/// Words that switch an optional limit off, on a flag or in a brief file.
-const OFF_WORDS: [&str; 5] = ["none", "off", "inf", "infinity", "+inf"];
-
-/// Parse an optional limit as written on a flag: a number, or `none` / `off` / `inf` for no limit
-/// (returned as +∞, a cap that never binds; [`BriefInput::resolve`] turns it into "no limit").
-///
-/// ```
-/// use loopwright::brief::parse_limit_or_off;
-/// assert_eq!(parse_limit_or_off("8").unwrap(), 8.0);
-/// assert_eq!(parse_limit_or_off("none").unwrap(), f64::INFINITY);
-/// assert!(parse_limit_or_off("lots").is_err());
-/// ```
-pub fn parse_limit_or_off(text: &str) -> Result<f64, String> {
-    let t = text.trim();
-    if OFF_WORDS.contains(&t.to_ascii_lowercase().as_str()) {
-        return Ok(f64::INFINITY);
-    }
-    t.parse::<f64>().map_err(|_| {
-        format!("'{text}' is not a number; give a value, or none (also off, inf) for no limit")
-    })
 }
 
 /// Serde: an optional limit in a brief file, a number or one of the off words (as +∞).
