@@ -88,7 +88,8 @@ pub struct CheckArgs {
 /// Brief fields as flags; each overrides the same field of a brief file.
 #[derive(Debug, Clone, Default, Args)]
 pub struct BriefArgs {
-    /// Brief file (TOML). Without it, the built-in demo brief is used.
+    /// Brief file (TOML). Without it, the flags start from the documented defaults; with neither a
+    /// file nor a brief flag, the built-in demo brief is used.
     pub brief: Option<PathBuf>,
     /// Entry speed at the bottom of the loop: a number in m/s, or with a unit: 25m/s, 90km/h, 56mph.
     #[arg(long, value_name = "SPEED", allow_hyphen_values = true)]
@@ -99,11 +100,11 @@ pub struct BriefArgs {
     /// Smallest normal load allowed at the top of the loop, g.
     #[arg(long, value_name = "G", allow_hyphen_values = true)]
     pub min_top_g: Option<f64>,
-    /// Largest rate of change of normal load, g/s.
-    #[arg(long, value_name = "G_PER_S", allow_hyphen_values = true)]
+    /// Largest rate of change of normal load, g/s; none (also off, inf) for no limit (the default).
+    #[arg(long, value_name = "G_PER_S", allow_hyphen_values = true, value_parser = crate::units::parse_limit_or_off)]
     pub max_onset: Option<f64>,
-    /// Largest loop height (heartline), m.
-    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    /// Largest loop height (heartline), m; none (also off, inf) for no limit (the default).
+    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = crate::units::parse_limit_or_off)]
     pub max_height: Option<f64>,
     /// Smallest heartline radius of curvature anywhere, m (default 4 m, illustrative).
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
@@ -214,7 +215,8 @@ impl From<ExportError> for CliError {
 /// Largest brief file we read; a brief is a few hundred bytes.
 const MAX_BRIEF_BYTES: u64 = 1 << 20;
 
-/// Read a brief file, or the demo brief when none is given.
+/// Read a brief file, or the demo brief when none is given (see [`BriefArgs::resolve`] for when
+/// the demo applies).
 pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
     let text = match path {
         None => DEMO_BRIEF_TOML.to_string(),
@@ -267,10 +269,21 @@ impl BriefArgs {
         }
     }
 
-    /// File (or demo) overlaid with flags, resolved and checked, with the limit table it names
-    /// read (so that every command enforces it).
+    /// Whether any brief field is given as a flag.
+    pub fn has_brief_flags(&self) -> bool {
+        self.as_input() != BriefInput::default()
+    }
+
+    /// The brief file overlaid with the flags, resolved and checked, with the limit table it names
+    /// read (so that every command enforces it). Without a file, flags start from the documented
+    /// defaults (README brief table), not from the demo: a flag must not inherit the demo's title,
+    /// file names or onset limit. Only a command line with neither a file nor a brief flag runs
+    /// the demo brief.
     pub fn resolve(&self) -> Result<Brief, CliError> {
-        let file = read_brief_file(self.brief.as_deref())?;
+        let file = match self.brief.as_deref() {
+            None if self.has_brief_flags() => BriefInput::default(),
+            path => read_brief_file(path)?,
+        };
         let mut brief = file.overlay(self.as_input()).resolve()?;
         attach_limits_table(
             &mut brief,

@@ -1,7 +1,8 @@
 //! Unit parsing for user input: speeds with a suffix, and the constants every stage shares.
 //!
 //! Inside loopwright every quantity is SI and carries its unit in its name (`speed_m_s`,
-//! `radius_m`). This module owns the one place where a user's text becomes such a number.
+//! `radius_m`). This module owns the one place where a user's text becomes such a number (a
+//! speed with its unit; an optional limit, or a word switching it off).
 //!
 //! ```
 //! use loopwright::units::parse_speed_m_s;
@@ -42,6 +43,28 @@ pub fn parse_speed_m_s(text: &str) -> Result<f64, String> {
         }
     };
     Ok(value * factor)
+}
+
+/// Words that switch an optional limit off, on a flag or in a brief file.
+const OFF_WORDS: [&str; 5] = ["none", "off", "inf", "infinity", "+inf"];
+
+/// Parse an optional limit as written on a flag: a number, or `none` / `off` / `inf` for no limit
+/// (returned as +∞, a cap that never binds; [`crate::brief::BriefInput::resolve`] turns it into "no limit").
+///
+/// ```
+/// use loopwright::units::parse_limit_or_off;
+/// assert_eq!(parse_limit_or_off("8").unwrap(), 8.0);
+/// assert_eq!(parse_limit_or_off("none").unwrap(), f64::INFINITY);
+/// assert!(parse_limit_or_off("lots").is_err());
+/// ```
+pub fn parse_limit_or_off(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    if OFF_WORDS.contains(&t.to_ascii_lowercase().as_str()) {
+        return Ok(f64::INFINITY);
+    }
+    t.parse::<f64>().map_err(|_| {
+        format!("'{text}' is not a number; give a value, or none (also off, inf) for no limit")
+    })
 }
 
 /// Format metres per second with the km/h equivalent, for reports.

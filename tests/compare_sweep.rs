@@ -431,7 +431,8 @@ fn command_line_sweep_merge_and_compare_write_their_files() {
         "compare-elevation.svg",
         "compare-loads.svg",
     ] {
-        assert!(dir.path().join(format!("copperwing-{f}")).exists(), "{f}");
+        // Flags without a brief file start from the defaults (README brief table): name "loop".
+        assert!(dir.path().join(format!("loop-{f}")).exists(), "{f}");
     }
     let code = main_with_args([
         "loopwright",

@@ -71,7 +71,9 @@ fn circle_below_six_plus_top_is_infeasible_with_that_reason() {
         .find(|n| n.field == "max_g")
         .expect("suggests a max_g")
         .value;
-    assert!((need - 6.2).abs() < 1e-3, "nearest max_g {need}");
+    // The hint is confirmed by a design and rounded up to the printed 0.001 g, so it lies just
+    // above the closed-form edge.
+    assert!((6.2..6.205).contains(&need), "nearest max_g {need}");
 }
 
 /// A requested height for a circle fixes R = H/2: bottom 1 + v²/(gR) exactly (closed form).

@@ -15,6 +15,9 @@ fn run(args: &[&str]) -> i32 {
     main_with_args(a)
 }
 
+/// The demo brief file: brief flags without a file start from the defaults, not the demo.
+const DEMO: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/demo-brief.toml");
+
 fn json(path: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
 }
@@ -30,7 +33,7 @@ fn check_reproduces_a_seven_car_design_per_car() {
     let out = dir.path().join("design");
     let o = out.to_str().unwrap();
     let train = ["--cars", "7", "--car-pitch", "2.4"];
-    let mut args = vec!["design", "--out", o, "--quiet"];
+    let mut args = vec!["design", DEMO, "--out", o, "--quiet"];
     args.extend_from_slice(&train);
     assert_eq!(run(&args), EXIT_OK);
     let design = json(&out.join("copperwing.json"));
@@ -95,6 +98,7 @@ fn check_enforces_a_limit_table() {
     assert_eq!(
         run(&[
             "design",
+            DEMO,
             "--spacing",
             "0.1",
             "--out",

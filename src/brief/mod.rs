@@ -24,7 +24,7 @@ pub use profile::{MAX_PROFILE_POINTS, PROFILE_LOAD_RANGE_G, ProfileInput, Profil
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
-use crate::units::parse_speed_m_s;
+use crate::units::{parse_limit_or_off, parse_speed_m_s};
 
 /// The demo brief shipped in `examples/demo-brief.toml` (an invented scenario).
 pub const DEMO_BRIEF_TOML: &str = include_str!("../../examples/demo-brief.toml");
@@ -112,7 +112,12 @@ pub struct BriefInput {
     pub entry_speed: Option<SpeedText>,
     pub max_g: Option<f64>,
     pub min_top_g: Option<f64>,
+    /// An optional limit: a number, or `"none"` / `"off"` / `"inf"` (kept as +∞, a cap that never
+    /// binds) to switch it off, so that flags can switch off a limit a brief file sets.
+    #[serde(default, deserialize_with = "limit_or_off")]
     pub max_onset_g_s: Option<f64>,
+    /// As `max_onset_g_s`: a number or `"none"` / `"off"` / `"inf"`.
+    #[serde(default, deserialize_with = "limit_or_off")]
     pub max_height_m: Option<f64>,
     pub min_radius_m: Option<f64>,
     pub height_m: Option<f64>,
@@ -181,6 +186,12 @@ pub mod defaults {
     pub const ENTRY_SPEED_M_S: f64 = 25.0;
     pub const MAX_G: f64 = 4.5;
     pub const MIN_TOP_G: f64 = 0.2;
+    /// The floor a `min_top_g` at or below −1 g stands for. At the top of a loop the rider feels
+    /// n = v²κ/g − 1 ≥ −1 g whenever the train moves (the textbook vertical-circle result), so such
+    /// a limit never binds and only asks that the train pass the top. A search for "just passes"
+    /// would sit on the stall, a discontinuity no verification can confirm; the floor keeps a
+    /// crawl margin of v²κ/g ≥ 0.01 instead (about 1 m/s over a 9 m top radius). Illustrative.
+    pub const MIN_TOP_G_CRAWL: f64 = -0.99;
     /// Smallest heartline radius of curvature allowed anywhere; keeps `tallest` from shrinking the
     /// top to a point (common practice, no source).
     pub const MIN_RADIUS_M: f64 = 4.0;
@@ -230,6 +241,43 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
         ));
     }
     Ok(value)
+}
+
+/// Serde: an optional limit in a brief file, a number or one of the off words (as +∞).
+fn limit_or_off<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
+    #[derive(Deserialize)]
+    #[serde(untagged)]
+    enum NumberOrWord {
+        Number(f64),
+        Word(String),
+    }
+    match Option::<NumberOrWord>::deserialize(d)? {
+        None => Ok(None),
+        Some(NumberOrWord::Number(v)) => Ok(Some(v)),
+        Some(NumberOrWord::Word(w)) => parse_limit_or_off(&w)
+            .map(Some)
+            .map_err(serde::de::Error::custom),
+    }
+}
+
+/// An optional cap: +∞ (switched off) is no limit; anything else must be finite and in range.
+fn optional_cap(
+    field: &str,
+    value: Option<f64>,
+    lo: f64,
+    hi: f64,
+    unit: &str,
+) -> Result<Option<f64>, BriefError> {
+    match value {
+        None => Ok(None),
+        Some(v) if v == f64::INFINITY => Ok(None),
+        Some(v) => in_range(field, v, lo, hi, unit).map(Some).map_err(|e| {
+            err(
+                field,
+                format!("{}; none (also off, inf) switches it off", e.message),
+            )
+        }),
+    }
 }
 
 impl BriefInput {
@@ -300,13 +348,16 @@ impl BriefInput {
         };
         let entry_speed_m_s = in_range("entry_speed", entry_speed_m_s, 1.0, 150.0, "m/s")?;
         let max_g = in_range("max_g", self.max_g.unwrap_or(d::MAX_G), 1.0, 20.0, "g")?;
+        // At or below −1 g the floor cannot bind (see `MIN_TOP_G_CRAWL`): a relaxed brief, kept
+        // at the crawl margin so that the train is still carried over the top.
         let min_top_g = in_range(
             "min_top_g",
             self.min_top_g.unwrap_or(d::MIN_TOP_G),
-            -1.5,
+            -20.0,
             20.0,
             "g",
-        )?;
+        )?
+        .max(d::MIN_TOP_G_CRAWL);
         if min_top_g >= max_g {
             return Err(err(
                 "min_top_g",
@@ -315,14 +366,8 @@ impl BriefInput {
                 ),
             ));
         }
-        let max_onset_g_s = self
-            .max_onset_g_s
-            .map(|v| in_range("max_onset_g_s", v, 0.01, 1000.0, "g/s"))
-            .transpose()?;
-        let max_height_m = self
-            .max_height_m
-            .map(|v| in_range("max_height_m", v, 0.5, 500.0, "m"))
-            .transpose()?;
+        let max_onset_g_s = optional_cap("max_onset_g_s", self.max_onset_g_s, 0.01, 1000.0, "g/s")?;
+        let max_height_m = optional_cap("max_height_m", self.max_height_m, 0.5, 500.0, "m")?;
         let min_radius_m = in_range(
             "min_radius_m",
             self.min_radius_m.unwrap_or(d::MIN_RADIUS_M),

@@ -20,8 +20,8 @@ use argmin::solver::neldermead::NelderMead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{
-    Assessment, EvalFailure, Evaluation, Infeasible, Nearest, SolverFailure, conclude, conditions,
-    curve_of, eval_failure, evaluate, solver_failure,
+    Assessment, EvalFailure, Evaluation, Infeasible, SolverFailure, conclude, conditions, curve_of,
+    eval_failure, evaluate, solver_failure,
 };
 use crate::brief::{Brief, Objective, ShapeKind};
 use crate::checks::limits::{LimitKind, limits_of};
@@ -259,20 +259,12 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infe
         counter.load(Ordering::Relaxed) + 2,
         |verdict| {
             let mut reasons = Vec::new();
-            let mut nearest = Vec::new();
             for l in verdict.failures() {
                 let (field, unit) = (l.limit.field(), l.limit.unit());
                 reasons.push(format!(
                     "{} is {:.3} {unit}, limit {field} = {:.3} {unit}",
                     l.label, l.value, l.limit_value
                 ));
-                if l.value.is_finite() {
-                    nearest.push(Nearest {
-                        field,
-                        value: l.value,
-                        unit,
-                    });
-                }
             }
             reasons.push(if spec.tune {
                 "tuning the control loads found no profile meeting every limit".into()
@@ -282,7 +274,8 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infe
             Infeasible {
                 shape: kind,
                 reasons,
-                nearest,
+                // Each hint re-designs the brief with it (the diagnosis's searches).
+                nearest: super::diagnosis::nearest_feasible(brief, kind),
             }
         },
     )
