@@ -185,6 +185,20 @@ impl Limit {
         m - self.design_margin()
     }
 
+    /// The loosest value of this limit that a design with figure `measured` meets with its design
+    /// margin (and the onset's search reserve) to spare: what a hint should suggest.
+    pub fn admitting(&self, measured: f64) -> f64 {
+        match self.kind {
+            LimitKind::MaxOnset => {
+                measured / (ONSET_SEARCH_SCALE * (1.0 - DESIGN_MARGIN.onset_fraction))
+            }
+            _ => match self.kind.bound() {
+                Bound::AtMost => measured + self.design_margin(),
+                Bound::AtLeast => measured - self.design_margin(),
+            },
+        }
+    }
+
     /// How far a figure is outside the limit moved inwards by its design margin and `reserve`
     /// (0 when inside), for soft penalties; an unbounded onset counts as `cap`.
     pub fn shortfall(&self, measured: f64, reserve: f64, cap: f64) -> f64 {

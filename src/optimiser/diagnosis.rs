@@ -9,7 +9,7 @@ use super::shape::search_shape;
 use super::size::{SizeRange, SolverFailure, radius_grid, size_range};
 use super::{EvalFailure, design_family, evaluate, height_per_radius};
 use crate::brief::{Brief, Objective, ShapeKind};
-use crate::checks::limits::{Bound, Side, limits_of};
+use crate::checks::limits::{Bound, Limit, LimitKind, Side, limits_of};
 use crate::checks::{Summary, Verdict};
 use crate::shape::family;
 
@@ -254,7 +254,8 @@ pub(crate) fn explain_tallest(
                 // Near −1 g at the top the train is barely creeping over: that is the stall boundary,
                 // not a top-load limit worth suggesting.
                 Ok(e) if e.summary.top_normal_g > -0.95 => {
-                    nearest.push(Nearest { field: "min_top_g", value: e.summary.top_normal_g, unit: "g" })
+                    let l = Limit { kind: LimitKind::MinTopG, value: brief.min_top_g };
+                    nearest.push(Nearest { field: "min_top_g", value: l.admitting(l.kind.measure(&e.summary)), unit: "g" })
                 }
                 _ => reasons.push(format!(
                     "a loop small enough to meet the peak-load limit (top radius {lo_m:.2} m) would stall before its top"
@@ -339,7 +340,7 @@ fn describe_lower_failures(brief: &Brief, s: &Summary, nearest: &mut Vec<Nearest
         ));
         nearest.push(Nearest {
             field,
-            value: v,
+            value: l.admitting(v),
             unit,
         });
     }
