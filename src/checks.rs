@@ -4,8 +4,13 @@
 //! length, peak and top loads, onset); [`check`] compares them with the brief's [`limits`] and gives a
 //! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
 //!
+//! `min_top_g` bounds the least normal load while the rider is inverted (cos θ < 0), wherever it
+//! occurs, not the load at the apex station: on a clothoid loop it lies a few degrees either side
+//! of the apex. Each extreme (peak load, least inverted load, peak onset) comes with its [`Place`]:
+//! arc length, pitch and car.
+//!
 //! For a train, [`summarise_train`] gives each car's figures and a worst-car [`Summary`] (highest
-//! peak, lowest top load, …), so the checks and the optimiser constrain the worst car. The
+//! peak, lowest inverted and top load, …), so the checks and the optimiser constrain the worst car. The
 //! duration-based acceleration envelope is in [`envelope`].
 //!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.

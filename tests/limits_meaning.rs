@@ -327,3 +327,25 @@ fn json_gives_places_and_the_margin() {
     let text = loopwright::report::terminal_summary(&d);
     assert!(text.contains("least normal load while inverted") && text.contains("design margin"));
 }
+
+/// The size search's upper-side margin stays monotone: the least inverted load falls as a loop of
+/// fixed shape grows (lossless scaling, n = v₀²κ̂/(gλ) − 2ẑκ̂ + cos θ at each point of a similar
+/// loop, optimiser module docs; the inverted part is the same set of points at every size), here
+/// with the demo's losses at the search's coarse sampling (16 stations per top radius).
+#[test]
+fn least_inverted_load_falls_as_the_loop_grows() {
+    let mut b = Brief::demo();
+    b.lateral_shift_m = 0.0;
+    let shape = [0.6];
+    let least: Vec<f64> = (0..12)
+        .map(|i| {
+            let r = 5.0 + 0.5 * i as f64;
+            let c = Curve::family(ShapeKind::Clothoid, &shape, r);
+            evaluate(&b, &c, b.spacing_m.max(r / 16.0), 0.0)
+                .unwrap()
+                .summary
+                .min_inverted_normal_g
+        })
+        .collect();
+    assert!(least.windows(2).all(|w| w[1] < w[0]), "{least:?}");
+}
