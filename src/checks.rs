@@ -4,8 +4,13 @@
 //! length, peak and top loads, onset); [`check`] compares them with the brief's [`limits`] and gives a
 //! [`Verdict`] line by line, each with a signed margin (positive = inside the limit).
 //!
+//! `min_top_g` bounds the least normal load while the rider is inverted (cos θ < 0), wherever it
+//! occurs, not the load at the apex station: on a clothoid loop it lies a few degrees either side
+//! of the apex. Each extreme (peak load, least inverted load, peak onset) comes with its [`Place`]:
+//! arc length, pitch and car.
+//!
 //! For a train, [`summarise_train`] gives each car's figures and a worst-car [`Summary`] (highest
-//! peak, lowest top load, …), so the checks and the optimiser constrain the worst car. The
+//! peak, lowest inverted and top load, …), so the checks and the optimiser constrain the worst car. The
 //! duration-based acceleration envelope is in [`envelope`].
 //!
 //! Limits taken from a brief's defaults are ILLUSTRATIVE, not values from any standard.
@@ -19,6 +24,16 @@ use serde::Serialize;
 
 use crate::dynamics::{Ride, TrainRide};
 use crate::geometry::Centreline;
+
+/// Where along the ride an extreme occurs: heartline arc length, pitch of the track there and the
+/// car that feels it (0 = front).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Place {
+    pub s_m: f64,
+    /// Pitch of the tangent above the entry direction, degrees (180 = the apex of the loop).
+    pub pitch_deg: f64,
+    pub car: usize,
+}
 
 /// Key figures of one design.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -34,12 +49,23 @@ pub struct Summary {
     pub min_radius_m: f64,
     pub peak_normal_g: f64,
     pub peak_normal_s_m: f64,
+    /// Where the peak normal load occurs.
+    pub peak_normal_at: Place,
     pub min_normal_g: f64,
+    /// Least normal load while the rider is inverted (pitch past 90°, cos θ < 0), g: what
+    /// `min_top_g` bounds. Infinite if the ride is never inverted. On a clothoid loop it lies a
+    /// few degrees either side of the apex, below the load at the apex itself.
+    pub min_inverted_normal_g: f64,
+    /// Where the least inverted load occurs (the top station if never inverted).
+    pub min_inverted_at: Place,
+    /// Normal load at the apex station (highest point), g.
     pub top_normal_g: f64,
     pub top_speed_m_s: f64,
     pub top_s_m: f64,
     /// Largest |dn/dt| on the smooth parts of the path, g/s.
     pub peak_onset_g_s: f64,
+    /// Where the peak onset occurs.
+    pub peak_onset_at: Place,
     /// Largest jump of normal load at a curvature step, g (0 if the curvature is continuous).
     pub max_load_step_g: f64,
     pub peak_lateral_g: f64,
@@ -52,6 +78,11 @@ pub struct Summary {
 
 /// Reduce a ride to its key figures.
 pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
+    summarise_car(path, ride, 0)
+}
+
+/// The key figures of car `car`'s ride (its points are in station order).
+fn summarise_car(path: &Centreline, ride: &Ride, car: usize) -> Summary {
     let st = &path.stations;
     let pts = &ride.points;
     let top = path.top_index();
@@ -60,6 +91,18 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
     let peak = (0..pts.len())
         .max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g))
         .unwrap_or(0);
+    // Inverted: the rider's seat points upwards, pitch past 90° (cos θ < 0).
+    let least_inverted = (0..pts.len())
+        .filter(|&i| st[i].pitch_rad.cos() < 0.0)
+        .min_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g));
+    let onset = (0..pts.len())
+        .max_by(|&a, &b| pts[a].onset_g_s.abs().total_cmp(&pts[b].onset_g_s.abs()))
+        .unwrap_or(0);
+    let place = |i: usize| Place {
+        s_m: pts[i].s_m,
+        pitch_deg: st[i].pitch_rad.to_degrees(),
+        car,
+    };
     let fold = |f: &dyn Fn(usize) -> f64, init: f64, pick: fn(f64, f64) -> f64| {
         (0..pts.len()).map(f).fold(init, pick)
     };
@@ -71,11 +114,15 @@ pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
         min_radius_m: path.min_radius_m(),
         peak_normal_g: pts[peak].normal_g,
         peak_normal_s_m: pts[peak].s_m,
+        peak_normal_at: place(peak),
         min_normal_g: fold(&|i| pts[i].normal_g, f64::MAX, f64::min),
+        min_inverted_normal_g: least_inverted.map_or(f64::INFINITY, |i| pts[i].normal_g),
+        min_inverted_at: place(least_inverted.unwrap_or(top)),
         top_normal_g: pts[top].normal_g,
         top_speed_m_s: pts[top].speed_m_s,
         top_s_m: pts[top].s_m,
         peak_onset_g_s: fold(&|i| pts[i].onset_g_s.abs(), 0.0, f64::max),
+        peak_onset_at: place(onset),
         max_load_step_g: ride
             .steps
             .iter()
@@ -99,19 +146,29 @@ pub struct CarSummary {
     pub peak_normal_g: f64,
     pub peak_normal_s_m: f64,
     pub min_normal_g: f64,
+    /// Least normal load while inverted (cos θ < 0), g, and where (infinite if never inverted).
+    pub min_inverted_normal_g: f64,
+    pub min_inverted_at: Place,
     pub top_normal_g: f64,
     pub top_speed_m_s: f64,
     pub peak_onset_g_s: f64,
+    pub peak_onset_at: Place,
     pub peak_lateral_g: f64,
     pub min_tangential_g: f64,
 }
 
 /// Each car's figures and the worst-car summary: the highest peak, onset, step and lateral load
-/// and the lowest minimum, top and tangential load of any car (the top speed is that of the car
+/// and the lowest minimum, inverted, top and tangential load of any car, each extreme with the
+/// place and car where it occurs (the top speed is that of the car
 /// with the lowest top load; exit speed and time in the loop are the rear car's, when the whole
 /// train has left the loop). For one car it is [`summarise`] exactly.
 pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<CarSummary>) {
-    let per: Vec<Summary> = train.cars.iter().map(|r| summarise(path, r)).collect();
+    let per: Vec<Summary> = train
+        .cars
+        .iter()
+        .enumerate()
+        .map(|(j, r)| summarise_car(path, r, j))
+        .collect();
     let cars = per
         .iter()
         .enumerate()
@@ -121,9 +178,12 @@ pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<Ca
             peak_normal_g: s.peak_normal_g,
             peak_normal_s_m: s.peak_normal_s_m,
             min_normal_g: s.min_normal_g,
+            min_inverted_normal_g: s.min_inverted_normal_g,
+            min_inverted_at: s.min_inverted_at,
             top_normal_g: s.top_normal_g,
             top_speed_m_s: s.top_speed_m_s,
             peak_onset_g_s: s.peak_onset_g_s,
+            peak_onset_at: s.peak_onset_at,
             peak_lateral_g: s.peak_lateral_g,
             min_tangential_g: s.min_tangential_g,
         })
@@ -133,13 +193,21 @@ pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<Ca
         if s.peak_normal_g > w.peak_normal_g {
             w.peak_normal_g = s.peak_normal_g;
             w.peak_normal_s_m = s.peak_normal_s_m;
+            w.peak_normal_at = s.peak_normal_at;
+        }
+        if s.min_inverted_normal_g < w.min_inverted_normal_g {
+            w.min_inverted_normal_g = s.min_inverted_normal_g;
+            w.min_inverted_at = s.min_inverted_at;
+        }
+        if s.peak_onset_g_s > w.peak_onset_g_s {
+            w.peak_onset_g_s = s.peak_onset_g_s;
+            w.peak_onset_at = s.peak_onset_at;
         }
         if s.top_normal_g < w.top_normal_g {
             w.top_normal_g = s.top_normal_g;
             w.top_speed_m_s = s.top_speed_m_s;
         }
         w.min_normal_g = w.min_normal_g.min(s.min_normal_g);
-        w.peak_onset_g_s = w.peak_onset_g_s.max(s.peak_onset_g_s);
         w.max_load_step_g = w.max_load_step_g.max(s.max_load_step_g);
         w.peak_lateral_g = w.peak_lateral_g.max(s.peak_lateral_g);
         w.min_tangential_g = w.min_tangential_g.min(s.min_tangential_g);

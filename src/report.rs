@@ -1,6 +1,7 @@
 //! Report: the caution every output carries and the terminal summary of a design.
 
-use crate::checks::{CheckLine, Summary};
+use crate::checks::limits::DESIGN_MARGIN;
+use crate::checks::{CheckLine, Place, Summary};
 use crate::compare::{Comparison, Entry, KeyFigures};
 use crate::model::{Assessment, Origin};
 use crate::optimiser::Infeasible;
@@ -20,11 +21,13 @@ pub fn terminal_summary(d: &Assessment) -> String {
     figure_rows(&mut out, s, Some(d.best.top_radius_m));
     let onset = if s.max_load_step_g > 1e-9 {
         format!(
-            "{:.2} g/s on smooth track; steps of {:.3} g (unbounded onset)",
-            s.peak_onset_g_s, s.max_load_step_g
+            "{:.2} g/s on smooth track ({}); steps of {:.3} g (unbounded onset)",
+            s.peak_onset_g_s,
+            place(&s.peak_onset_at),
+            s.max_load_step_g
         )
     } else {
-        format!("{:.2} g/s", s.peak_onset_g_s)
+        format!("{:.2} g/s at {}", s.peak_onset_g_s, place(&s.peak_onset_at))
     };
     row(&mut out, "peak onset", onset);
     row(
@@ -61,10 +64,28 @@ pub fn terminal_summary(d: &Assessment) -> String {
     }
     out.push_str("  checks (re-evaluated at a quarter of the sample spacing):\n");
     check_lines(&mut out, &d.verification.verdict.lines);
+    row(
+        &mut out,
+        "design margin kept inside limits",
+        format!(
+            "{:.3} g on loads, {:.1} % of the onset limit, {:.1} mm on height and radius",
+            DESIGN_MARGIN.load_g,
+            100.0 * DESIGN_MARGIN.onset_fraction,
+            1e3 * DESIGN_MARGIN.length_m
+        ),
+    );
     out.push_str(&train_and_envelope(d));
     out.push_str(CAUTION);
     out.push('\n');
     out
+}
+
+/// Where an extreme occurs, for a terminal row.
+fn place(p: &Place) -> String {
+    format!(
+        "s = {:.2} m, pitch {:.1}°, car {}",
+        p.s_m, p.pitch_deg, p.car
+    )
 }
 
 /// Terminal lines for the lateral shift, the train's cars and the duration envelope.
@@ -90,8 +111,13 @@ pub fn train_and_envelope(d: &Assessment) -> String {
         for (label, j) in [("front", 0), ("middle", mid), ("rear", cars.len() - 1)] {
             let c = &cars[j];
             out.push_str(&format!(
-                "    {label:<6} (car {j:>2}) peak {:.3} g, top {:.3} g at {:.2} m/s, peak lateral {:.3} g\n",
-                c.peak_normal_g, c.top_normal_g, c.top_speed_m_s, c.peak_lateral_g
+                "    {label:<6} (car {j:>2}) peak {:.3} g, least inverted {:.3} g (pitch {:.1}°), top {:.3} g at {:.2} m/s, peak lateral {:.3} g\n",
+                c.peak_normal_g,
+                c.min_inverted_normal_g,
+                c.min_inverted_at.pitch_deg,
+                c.top_normal_g,
+                c.top_speed_m_s,
+                c.peak_lateral_g
             ));
         }
     }
@@ -100,25 +126,30 @@ pub fn train_and_envelope(d: &Assessment) -> String {
         return out;
     };
     out.push_str(&format!(
-        "  acceleration envelope: {}{} — {}\n",
+        "  acceleration envelope ({}): {}{} — {}\n",
+        if e.enforced {
+            "enforced"
+        } else {
+            "reported, not enforced"
+        },
         e.title,
         if e.illustrative {
             " [ILLUSTRATIVE values: verify against the governing standard]"
         } else {
             ""
         },
-        if e.pass { "pass" } else { "FAIL" }
+        e.verdict()
     ));
     for l in &e.levels {
         out.push_str(&format!(
             "    {}\n",
-            crate::checks::envelope::describe_level(l)
+            crate::checks::envelope::describe_level(l, e.enforced)
         ));
     }
     for o in &e.onsets {
         out.push_str(&format!(
             "    {}\n",
-            crate::checks::envelope::describe_onset(o)
+            crate::checks::envelope::describe_onset(o, e.enforced)
         ));
     }
     out
@@ -160,7 +191,7 @@ pub fn check_summary(a: &Assessment) -> String {
     row(
         &mut out,
         "peak onset",
-        format!("{:.2} g/s", s.peak_onset_g_s),
+        format!("{:.2} g/s at {}", s.peak_onset_g_s, place(&s.peak_onset_at)),
     );
     row(
         &mut out,
@@ -217,12 +248,22 @@ fn figure_rows(out: &mut String, s: &Summary, top_radius_m: Option<f64>) {
     row(
         out,
         "peak normal load",
-        format!("{:.3} g at s = {:.2} m", s.peak_normal_g, s.peak_normal_s_m),
+        format!("{:.3} g at {}", s.peak_normal_g, place(&s.peak_normal_at)),
     );
     row(out, "least normal load", format!("{:.3} g", s.min_normal_g));
+    let inverted = if s.min_inverted_normal_g.is_finite() {
+        format!(
+            "{:.3} g at {}",
+            s.min_inverted_normal_g,
+            place(&s.min_inverted_at)
+        )
+    } else {
+        "never inverted".into()
+    };
+    row(out, "least normal load while inverted", inverted);
     row(
         out,
-        "normal load at the top",
+        "normal load at the apex",
         format!("{:.3} g", s.top_normal_g),
     );
     row(out, "speed at the top", describe_speed(s.top_speed_m_s));
@@ -237,7 +278,7 @@ fn check_lines(out: &mut String, lines: &[CheckLine]) {
             "unbounded".into()
         };
         out.push_str(&format!(
-            "    {:<4} {:<30} {value:>9} {:<4} limit {:.3}\n",
+            "    {:<4} {:<34} {value:>9} {:<4} limit {:.3}\n",
             if l.pass { "ok" } else { "FAIL" },
             l.label,
             l.unit,

@@ -113,7 +113,9 @@ proptest! {
         let r = design_family(&b, ShapeKind::Circle);
         prop_assert_eq!(r.is_ok(), above, "v {} n_top {} max_g {}: {:?}", v, min_top, max_g, r.as_ref().err());
         if let Ok(d) = r {
-            let radius = v * v / (G * (5.0 + min_top));
+            // The design keeps its design margin m inside both limits (0.05 ≤ gap > 2m).
+            let m = loopwright::checks::limits::DESIGN_MARGIN.load_g;
+            let radius = v * v / (G * (5.0 + min_top + m));
             prop_assert!((d.best.top_radius_m - radius).abs() / radius < 1e-4);
         }
     }

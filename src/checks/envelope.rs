@@ -6,7 +6,8 @@
 //! most `duration_s`"; a level with duration 0 is an absolute bound. [`evaluate`] measures, on the
 //! computed loads of every car, the longest time spent continuously above or below each level
 //! (crossing times by linear interpolation between samples) and the steepest rate of change, and
-//! reports pass or fail line by line with the worst car.
+//! reports pass or fail line by line with the worst car. A table the brief names is enforced; the
+//! built-in one is only reported, and its failures read as warnings, never "FAIL".
 //!
 //! The built-in table ([`EnvelopeTable::illustrative`], the same as
 //! `examples/limits-illustrative.toml`) is ILLUSTRATIVE: its values are from memory of published
@@ -146,6 +147,10 @@ pub struct OnsetResult {
 pub struct EnvelopeReport {
     pub title: String,
     pub illustrative: bool,
+    /// Whether the table is enforced (the brief names it: a failure is infeasible, exit 3) or
+    /// only reported (the built-in ILLUSTRATIVE table: a failure is a warning). [`evaluate`] gives
+    /// an enforced report; [`EnvelopeReport::reported_only`] marks it otherwise.
+    pub enforced: bool,
     pub levels: Vec<LevelResult>,
     pub onsets: Vec<OnsetResult>,
     pub pass: bool,
@@ -158,23 +163,49 @@ pub struct EnvelopeLine {
     pub bound: Bound,
     pub level_g: f64,
     pub allowed_s: f64,
-    /// e.g. "normal ≤ 5.00 g beyond 1.0 s: ok".
+    /// e.g. "normal above 5.000 g for at most 1.000 s: never beyond — ok".
     pub label: String,
     pub pass: bool,
+    /// Whether the table is enforced (a failing line is "FAIL") or only reported ("exceeded
+    /// (reported, not enforced)").
+    pub enforced: bool,
     /// Arc-length span of the worst run beyond the level, to highlight, m.
     pub run_s_m: Option<(f64, f64)>,
 }
 
 impl EnvelopeReport {
+    /// The same report, marked as reported only (not enforced).
+    pub fn reported_only(self) -> Self {
+        EnvelopeReport {
+            enforced: false,
+            ..self
+        }
+    }
+
+    /// The verdict word of the whole table: "pass", "FAIL" (enforced) or "exceeded (reported,
+    /// not enforced)".
+    pub fn verdict(&self) -> &'static str {
+        if self.pass {
+            "pass"
+        } else {
+            verdict_word(false, self.enforced)
+        }
+    }
+
     /// The failing level and onset lines, as text.
     pub fn failures(&self) -> Vec<String> {
         let mut out: Vec<String> = self
             .levels
             .iter()
             .filter(|l| !l.pass)
-            .map(describe_level)
+            .map(|l| describe_level(l, self.enforced))
             .collect();
-        out.extend(self.onsets.iter().filter(|o| !o.pass).map(describe_onset));
+        out.extend(
+            self.onsets
+                .iter()
+                .filter(|o| !o.pass)
+                .map(|o| describe_onset(o, self.enforced)),
+        );
         out
     }
 
@@ -188,16 +219,29 @@ impl EnvelopeReport {
                 bound: l.bound,
                 level_g: l.level_g,
                 allowed_s: l.allowed_s,
-                label: describe_level(l),
+                label: describe_level(l, self.enforced),
                 pass: l.pass,
+                enforced: self.enforced,
                 run_s_m: l.run_s_m,
             })
             .collect()
     }
 }
 
-/// A level line as text, e.g. "normal above 5.000 g for at most 1.000 s: longest 0.812 s (car 0) — ok".
-pub fn describe_level(l: &LevelResult) -> String {
+/// The verdict word of a line: "ok"/"pass" inside, "FAIL" outside an enforced table, and a
+/// warning, never "FAIL", outside a table that is only reported.
+fn verdict_word(pass: bool, enforced: bool) -> &'static str {
+    match (pass, enforced) {
+        (true, _) => "ok",
+        (false, true) => "FAIL",
+        (false, false) => "exceeded (reported, not enforced)",
+    }
+}
+
+/// A level line as text, e.g. "normal above 5.000 g for at most 1.000 s: longest 0.812 s (car 0)
+/// — ok"; a failing line of a table that is only reported says "exceeded (reported, not
+/// enforced)" instead of "FAIL".
+pub fn describe_level(l: &LevelResult, enforced: bool) -> String {
     let side = if l.bound == Bound::Above {
         "above"
     } else {
@@ -213,7 +257,7 @@ pub fn describe_level(l: &LevelResult) -> String {
     } else {
         "never beyond".to_string()
     };
-    let verdict = if l.pass { "ok" } else { "FAIL" };
+    let verdict = verdict_word(l.pass, enforced);
     format!(
         "{} {side} {:.3} g {allowed}: {got} — {verdict}",
         l.axis.name(),
@@ -221,8 +265,8 @@ pub fn describe_level(l: &LevelResult) -> String {
     )
 }
 
-/// An onset line as text.
-pub fn describe_onset(o: &OnsetResult) -> String {
+/// An onset line as text (the verdict word as for [`describe_level`]).
+pub fn describe_onset(o: &OnsetResult, enforced: bool) -> String {
     let v = if o.value_g_s.is_finite() {
         format!("{:.3} g/s", o.value_g_s)
     } else {
@@ -233,7 +277,7 @@ pub fn describe_onset(o: &OnsetResult) -> String {
         o.axis.name(),
         o.worst_car,
         o.limit_g_s,
-        if o.pass { "ok" } else { "FAIL" }
+        verdict_word(o.pass, enforced)
     )
 }
 
@@ -299,6 +343,7 @@ pub fn evaluate(table: &EnvelopeTable, path: &Centreline, train: &TrainRide) -> 
             .clone()
             .unwrap_or_else(|| "acceleration envelope".into()),
         illustrative: table.illustrative,
+        enforced: true,
         levels,
         onsets,
         pass,

@@ -47,6 +47,30 @@ pub enum Side {
     Lower,
 }
 
+/// The margin a design keeps inside every limit of its brief, stated in the report (README "Design
+/// margin", JSON `design_margin`). The search sizes and shapes a loop to clear each limit by this
+/// much, so that a design does not sit exactly on a limit: re-checking its own drawing or loads
+/// table (a smoothing fit, a different sampling) must still pass. The verdict itself compares
+/// with the limit as written.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct DesignMargin {
+    /// On load limits (`max_g`, `min_top_g`), g: a little over the 0.01 g to which `check`
+    /// reproduces a design's loads from its own files.
+    pub load_g: f64,
+    /// On the onset limit, as a fraction of the limit (onset comes from differences of the load,
+    /// so it moves more than the load when a curve is refitted or resampled).
+    pub onset_fraction: f64,
+    /// On the height and radius limits, m (a fit of a design's points stays within 0.25 mm).
+    pub length_m: f64,
+}
+
+/// The design margin of every design (see [`DesignMargin`]).
+pub const DESIGN_MARGIN: DesignMargin = DesignMargin {
+    load_g: 0.015,
+    onset_fraction: 0.02,
+    length_m: 0.005,
+};
+
 /// The onset limit keeps this fraction of itself in hand during the search: onset comes from
 /// differences of the load, so it moves more than the loads when the sampling is refined, and the
 /// verification at a quarter of the spacing must not tip it over.
@@ -79,7 +103,7 @@ impl LimitKind {
     pub fn label(self) -> &'static str {
         match self {
             LimitKind::MaxG => "peak normal load",
-            LimitKind::MinTopG => "normal load at the top",
+            LimitKind::MinTopG => "least normal load while inverted",
             LimitKind::MaxOnset => "peak onset",
             LimitKind::MaxHeight => "loop height (heartline)",
             LimitKind::MinRadius => "smallest radius (heartline)",
@@ -104,7 +128,8 @@ impl LimitKind {
     pub fn measure(self, s: &Summary) -> f64 {
         match self {
             LimitKind::MaxG => s.peak_normal_g,
-            LimitKind::MinTopG => s.top_normal_g,
+            // The least load anywhere the rider is inverted, not only at the apex station.
+            LimitKind::MinTopG => s.min_inverted_normal_g,
             LimitKind::MaxOnset => onset_for_limit(s),
             LimitKind::MaxHeight => s.loop_height_m,
             LimitKind::MinRadius => s.min_radius_m,
@@ -138,20 +163,46 @@ impl Limit {
         }
     }
 
-    /// The margin the size search works with: the onset limit keeps 0.5 % of itself in hand,
-    /// and no margin falls below a finite floor (see the constants).
-    pub fn search_margin(&self, measured: f64) -> f64 {
+    /// The design margin of this limit in its own unit ([`DESIGN_MARGIN`]).
+    pub fn design_margin(&self) -> f64 {
         match self.kind {
+            LimitKind::MaxG | LimitKind::MinTopG => DESIGN_MARGIN.load_g,
+            LimitKind::MaxOnset => DESIGN_MARGIN.onset_fraction * self.value.abs(),
+            LimitKind::MaxHeight | LimitKind::MinRadius => DESIGN_MARGIN.length_m,
+        }
+    }
+
+    /// The margin the size search works with: the margin beyond the design margin; the onset
+    /// limit keeps a further 0.5 % of itself in hand, and no margin falls below a finite floor
+    /// (see the constants).
+    pub fn search_margin(&self, measured: f64) -> f64 {
+        let m = match self.kind {
             LimitKind::MaxOnset => {
                 (ONSET_SEARCH_SCALE * self.value - measured).max(SEARCH_MARGIN_FLOOR)
             }
             _ => self.margin(measured),
+        };
+        m - self.design_margin()
+    }
+
+    /// The loosest value of this limit that a design with figure `measured` meets with its design
+    /// margin (and the onset's search reserve) to spare: what a hint should suggest.
+    pub fn admitting(&self, measured: f64) -> f64 {
+        match self.kind {
+            LimitKind::MaxOnset => {
+                measured / (ONSET_SEARCH_SCALE * (1.0 - DESIGN_MARGIN.onset_fraction))
+            }
+            _ => match self.kind.bound() {
+                Bound::AtMost => measured + self.design_margin(),
+                Bound::AtLeast => measured - self.design_margin(),
+            },
         }
     }
 
-    /// How far a figure is outside the limit moved `reserve` inwards (0 when inside), for soft
-    /// penalties; an unbounded onset counts as `cap`.
+    /// How far a figure is outside the limit moved inwards by its design margin and `reserve`
+    /// (0 when inside), for soft penalties; an unbounded onset counts as `cap`.
     pub fn shortfall(&self, measured: f64, reserve: f64, cap: f64) -> f64 {
+        let reserve = reserve + self.design_margin();
         let over = match self.kind.bound() {
             Bound::AtMost => measured - self.value + reserve,
             Bound::AtLeast => self.value + reserve - measured,

@@ -5,7 +5,8 @@ use serde::Serialize;
 use super::ExportError;
 use crate::brief::Brief;
 use crate::checks::envelope::EnvelopeReport;
-use crate::checks::{CarSummary, CheckLine};
+use crate::checks::limits::{DESIGN_MARGIN, DesignMargin};
+use crate::checks::{CarSummary, CheckLine, Place};
 use crate::dynamics::LoadStep;
 use crate::geometry::fit::FitReport;
 use crate::model::{Assessment, Origin};
@@ -26,10 +27,18 @@ pub struct Report<'a> {
     pub min_radius_m: f64,
     pub peak_normal_g: f64,
     pub peak_normal_s_m: f64,
+    /// Where the peak normal load occurs: arc length, pitch and car.
+    pub peak_normal_at: Place,
     pub min_normal_g: f64,
+    /// Least normal load while inverted (what `min_top_g` bounds; null if never inverted), and
+    /// where.
+    pub min_inverted_normal_g: f64,
+    pub min_inverted_at: Place,
+    /// Normal load at the apex station.
     pub top_normal_g: f64,
     pub top_speed_m_s: f64,
     pub peak_onset_g_s: f64,
+    pub peak_onset_at: Place,
     pub max_load_step_g: f64,
     pub load_steps: &'a [LoadStep],
     pub exit_speed_m_s: f64,
@@ -38,6 +47,9 @@ pub struct Report<'a> {
     pub time_in_loop_s: f64,
     pub shape_parameters: Vec<(&'static str, f64)>,
     pub checks: &'a [CheckLine],
+    /// The margin a design keeps inside every limit (the checks compare with the limits as
+    /// written).
+    pub design_margin: DesignMargin,
     pub verified_at_spacing_m: f64,
     pub evaluations: usize,
     pub brief: &'a Brief,
@@ -48,7 +60,7 @@ pub struct Report<'a> {
     pub car_pitch_m: f64,
     /// Every car's figures (front first), from the verification run.
     pub per_car: &'a [CarSummary],
-    /// The duration-based envelope check, level by level (null if not assessed).
+    /// The duration-based envelope check, level by level, with `enforced` (null if not assessed).
     pub envelope: Option<&'a EnvelopeReport>,
     /// For a centreline read from a drawing (`check`): the file, what was read and the fit.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -81,10 +93,14 @@ pub fn report(d: &Assessment) -> Report<'_> {
         min_radius_m: s.min_radius_m,
         peak_normal_g: s.peak_normal_g,
         peak_normal_s_m: s.peak_normal_s_m,
+        peak_normal_at: s.peak_normal_at,
         min_normal_g: s.min_normal_g,
+        min_inverted_normal_g: s.min_inverted_normal_g,
+        min_inverted_at: s.min_inverted_at,
         top_normal_g: s.top_normal_g,
         top_speed_m_s: s.top_speed_m_s,
         peak_onset_g_s: s.peak_onset_g_s,
+        peak_onset_at: s.peak_onset_at,
         max_load_step_g: s.max_load_step_g,
         load_steps: &d.best.ride.steps,
         exit_speed_m_s: s.exit_speed_m_s,
@@ -97,6 +113,7 @@ pub fn report(d: &Assessment) -> Report<'_> {
             .zip(d.best.shape().iter().copied())
             .collect(),
         checks: &d.verification.verdict.lines,
+        design_margin: DESIGN_MARGIN,
         verified_at_spacing_m: d.verification.spacing_m,
         evaluations: d.evaluations,
         brief: &d.brief,
