@@ -256,6 +256,7 @@ fn check_points(d: &Assessment, pts: Vec<nalgebra::Vector3<f64>>) -> Result<Asse
         points_m: pts,
         source: "rotated".into(),
         merged_duplicates: 0,
+        points_are: None,
     };
     let opts = CheckOptions {
         points_are: PointsAre::Heartline,
@@ -687,6 +688,7 @@ fn noisy_points_need_smoothing() {
         points_m: pts,
         source: "noisy".into(),
         merged_duplicates: 0,
+        points_are: None,
     };
     let run = |tol: f64| {
         let opts = CheckOptions {
@@ -876,6 +878,7 @@ fn planar_loops_give_the_previous_results() {
             points_m: pts.clone(),
             source: "planar".into(),
             merged_duplicates: 0,
+            points_are: None,
         };
         let opts = CheckOptions {
             points_are: kind,
