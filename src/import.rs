@@ -133,21 +133,19 @@ pub fn read_centreline_as(
         let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
         let c = parse_dxf_bytes(&bytes, layer, &what)?;
         match (wanted, c.points_are) {
-            (Some(w), Some(said)) if w != said => Err(format_err(
-                &what,
-                format!(
-                    "{} is loopwright's {} layer; --points {} would read it as the {}. Use --points {}, or --layer {}",
-                    c.source,
-                    name_of(said),
-                    name_of(w),
-                    name_of(w),
-                    name_of(said),
-                    match w {
-                        PointsAre::Rail => RAIL_LAYER,
-                        PointsAre::Heartline => HEARTLINE_LAYER,
-                    }
-                ),
-            )),
+            (Some(w), Some(said)) if w != said => {
+                let (w, said, other) = match w {
+                    PointsAre::Rail => ("rail", "heartline", RAIL_LAYER),
+                    PointsAre::Heartline => ("heartline", "rail", HEARTLINE_LAYER),
+                };
+                Err(format_err(
+                    &what,
+                    format!(
+                        "{} is loopwright's {said} layer; --points {w} would read it as the {w}. Use --points {said}, or --layer {other}",
+                        c.source
+                    ),
+                ))
+            }
             _ => Ok(c),
         }
     } else {
@@ -165,13 +163,6 @@ pub fn read_centreline_as(
             )
         })?;
         parse_csv_as(&text, &what, wanted)
-    }
-}
-
-fn name_of(p: PointsAre) -> &'static str {
-    match p {
-        PointsAre::Rail => "rail",
-        PointsAre::Heartline => "heartline",
     }
 }
 

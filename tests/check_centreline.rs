@@ -13,7 +13,7 @@
 mod common;
 
 use loopwright::brief::Brief;
-use loopwright::geometry::fit::{DEFAULT_TOLERANCE_M, PointsAre, SmoothingSpline};
+use loopwright::geometry::fit::{DEFAULT_TOLERANCE_M, FitMethod, PointsAre, SmoothingSpline};
 use loopwright::import::ImportedCentreline;
 use loopwright::import::{MAX_FILE_BYTES, read_centreline};
 use loopwright::model::{Assessment, Drawing, check};
@@ -116,7 +116,8 @@ fn csv_round_trip(d: &Assessment, label: &str) -> (f64, f64) {
         c.best.summary.peak_lateral_g,
         d.best.summary.peak_lateral_g
     );
-    assert!(wn < 0.05, "{label}: worst {wn} g");
+    // Exact points are interpolated: within 0.01 g (tests/round_trip.rs), not only the 0.05 g floor.
+    assert!(wn < 0.01, "{label}: worst {wn} g");
     assert!((c.best.summary.loop_height_m - d.best.summary.loop_height_m).abs() < 0.01);
     let rail = dir.path().join("rail.csv");
     write_points(
@@ -130,7 +131,7 @@ fn csv_round_trip(d: &Assessment, label: &str) -> (f64, f64) {
     let r = check_file(d, &rail, None, PointsAre::Rail);
     let (rn, rl) = worst_differences(d, &r);
     eprintln!("{label} rail CSV round trip: worst |Δn| = {rn:.4} g, |Δlat| = {rl:.4} g");
-    assert!(rn < 0.05, "{label}: worst {rn} g");
+    assert!(rn < 0.01, "{label}: worst {rn} g");
     assert!((r.best.summary.rail_height_m - d.best.summary.rail_height_m).abs() < 0.01);
     // The sideways spread is reported: the design's lateral extent (rail and heartline share y).
     for f in [c.fit().unwrap(), r.fit().unwrap()] {
@@ -186,7 +187,7 @@ fn dxf_round_trip_reproduces_the_design_loads() {
             let c = check_file(&d, &file, Some(layer), kind);
             let (wn, wl) = worst_differences(&d, &c);
             eprintln!("{label} DXF {layer} round trip: worst |Δn| = {wn:.4} g, |Δlat| = {wl:.4} g");
-            assert!(wn < 0.05, "{label} {layer}: worst {wn} g");
+            assert!(wn < 0.01, "{label} {layer}: worst {wn} g");
             assert!(wl < LATERAL_AGREEMENT_G, "{label} {layer}: lateral {wl} g");
         }
     }
@@ -582,8 +583,9 @@ mod refusals {
             a.extend_from_slice(extra);
             main_with_args(a)
         };
-        // The demo design sits on its top-load limit; the refit is a hair under it, so relax it.
-        assert_eq!(run(&["--min-top-g", "0.1", "--quiet"]), EXIT_OK);
+        // The demo design sits on its top-load limit (0.2001 g); its exact points are interpolated,
+        // so the check finds the same top load and passes the design's own brief.
+        assert_eq!(run(&["--quiet"]), EXIT_OK);
         let json = std::fs::read_to_string(out.join("edited-check.json")).unwrap();
         assert!(json.contains(loopwright::report::CAUTION) && json.contains("\"pass\": true"));
         let csv = std::fs::read_to_string(out.join("edited-check-loads.csv")).unwrap();
@@ -840,7 +842,9 @@ mod previous_planar_fit {
 /// A planar loop gives the same loads as before 3D support, within 1e-9 g: the planar demo's
 /// heartline and rail points, turned 0.6 rad about Z and tilted 1.5° about the entry direction (so the
 /// plane is not a coordinate plane), through the current fit and the previous planar one, both
-/// ridden by the same dynamics.
+/// ridden by the same dynamics. The previous fit always smoothed; the current one smooths only
+/// noisy points, so the points carry ±0.5 mm of in-plane noise (exact points are interpolated, and
+/// `tests/round_trip.rs` holds them to the design's loads instead).
 #[test]
 fn planar_loops_give_the_previous_results() {
     use loopwright::dynamics::{Conditions, simulate};
@@ -859,6 +863,11 @@ fn planar_loops_give_the_previous_results() {
     };
     for kind in [PointsAre::Rail, PointsAre::Heartline] {
         // Every third station keeps this quick; the comparison does not need dense points.
+        let mut seed: u64 = 4242;
+        let mut rnd = || {
+            seed = (seed * 1_103_515_245 + 12_345) % (1 << 31);
+            seed as f64 / (1u64 << 31) as f64 - 0.5
+        };
         let pts: Vec<nalgebra::Vector3<f64>> = d
             .best
             .path
@@ -871,7 +880,8 @@ fn planar_loops_give_the_previous_results() {
                 } else {
                     s.heartline_m
                 };
-                turn * p + nalgebra::Vector3::new(100.0, -40.0, 3.0)
+                let noise = nalgebra::Vector3::new(0.001 * rnd(), 0.0, 0.001 * rnd());
+                turn * (p + noise) + nalgebra::Vector3::new(100.0, -40.0, 3.0)
             })
             .collect();
         let imported = loopwright::import::ImportedCentreline {
@@ -885,6 +895,7 @@ fn planar_loops_give_the_previous_results() {
             tolerance_m: DEFAULT_TOLERANCE_M,
         };
         let now = check_drawing(b, &imported, "planar", &opts).unwrap();
+        assert_eq!(now.fit().unwrap().method, FitMethod::Smoothed);
         let before = previous_planar_fit::fit(
             &pts,
             DEFAULT_TOLERANCE_M,

@@ -121,8 +121,8 @@ pub struct FitReport {
     pub points_are: PointsAre,
     /// Interpolated (exact points) or smoothed (noisy points).
     pub method: FitMethod,
-    /// Estimated RMS distance of the points from a smooth curve through them (from their fourth
-    /// differences; see [`pieces`]), m.
+    /// Estimated noise of the points across the curve, RMS (from their fourth differences; see
+    /// [`pieces`]), m.
     pub noise_estimate_m: f64,
     /// Curvature jumps found in the points; the curve is fitted in one more piece than this.
     pub curvature_jumps: usize,
