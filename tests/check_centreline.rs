@@ -700,6 +700,17 @@ fn noisy_points_need_smoothing() {
         check_drawing(&d.brief, &imported, "noisy", &opts)
     };
     let smooth = run(0.0006).expect("smoothed points ride");
+    // The noise (about 0.58 mm across the curve) is well over a tenth of the tolerance, and the
+    // points' differences grow with order as noise does: they are smoothed, and the estimate is
+    // the noise's size (uniform ±1 mm has standard deviation 1/√3 mm), within 20 %.
+    let fit = smooth.fit().unwrap();
+    assert_eq!(fit.method, FitMethod::Smoothed);
+    let want = 0.001 / 3f64.sqrt();
+    assert!(
+        (fit.noise_estimate_m / want - 1.0).abs() < 0.2,
+        "{} vs {want}",
+        fit.noise_estimate_m
+    );
     let w = worst_load_difference(&d, &smooth);
     eprintln!("noisy points smoothed to 0.6 mm: worst |Δn| = {w:.4} g");
     assert!(w < 0.05, "{w}");
