@@ -71,9 +71,10 @@ pub struct CheckArgs {
     /// DXF layer holding the centreline (required when the file has more than one curve).
     #[arg(long, value_name = "NAME")]
     pub layer: Option<String>,
-    /// Whether the points are the rail centreline or the heartline.
-    #[arg(long, value_enum, default_value = "rail")]
-    pub points: PointsArg,
+    /// Whether the points are the rail centreline or the heartline. Default: what the file says
+    /// (loopwright's loads CSV and LW-HEARTLINE layer: heartline; LW-RAIL: rail), otherwise rail.
+    #[arg(long, value_enum)]
+    pub points: Option<PointsArg>,
     /// Smoothing spline tolerance: RMS distance allowed between the points and the fitted curve, m.
     #[arg(long, value_name = "M", default_value_t = crate::geometry::fit::DEFAULT_TOLERANCE_M, allow_hyphen_values = true)]
     pub fit_tolerance: f64,
@@ -382,7 +383,7 @@ fn refuse_design_only_flags(b: &BriefArgs) -> Result<(), CliError> {
 /// Run `check`: returns the text for standard output.
 pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
     use crate::geometry::fit::PointsAre;
-    use crate::import::{ImportError, read_centreline};
+    use crate::import::{ImportError, read_centreline_as};
     use crate::model::{Curve, Drawing, EvalFailure, assess};
     let tol = args.fit_tolerance;
     if !(tol.is_finite() && tol > 0.0 && tol <= MAX_FIT_TOLERANCE_M) {
@@ -416,17 +417,20 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
     // The outputs carry "-check" so that checking a design's own files in its folder never
     // overwrites them.
     brief.name.push_str("-check");
-    let imported = read_centreline(&args.path, args.layer.as_deref()).map_err(|e| match e {
-        ImportError::Io { .. } => CliError::Io(e.to_string()),
-        ImportError::Format { .. } => CliError::Usage(e.to_string()),
-    })?;
+    let wanted = args.points.map(|p| match p {
+        PointsArg::Rail => PointsAre::Rail,
+        PointsArg::Heartline => PointsAre::Heartline,
+    });
+    let imported =
+        read_centreline_as(&args.path, args.layer.as_deref(), wanted).map_err(|e| match e {
+            ImportError::Io { .. } => CliError::Io(e.to_string()),
+            ImportError::Format { .. } => CliError::Usage(e.to_string()),
+        })?;
     let file = args.path.display().to_string();
     let drawing = Drawing {
         points_m: imported.points_m,
-        points_are: match args.points {
-            PointsArg::Rail => PointsAre::Rail,
-            PointsArg::Heartline => PointsAre::Heartline,
-        },
+        // The importer refuses a request the file contradicts, so these agree when both say.
+        points_are: imported.points_are.or(wanted).unwrap_or(PointsAre::Rail),
         tolerance_m: tol,
         file: file.clone(),
         source: imported.source,

@@ -10,9 +10,15 @@
 //!   are mapped from their object coordinate system by the DXF "arbitrary axis algorithm"; arc
 //!   bulges are sampled as arcs. SPLINE entities are evaluated from control points, knots and
 //!   weights (de Boor's algorithm), or their fit points are used when they have no control points.
-//! - CSV: a header naming `x_m,y_m,z_m` (or `x,y,z`, any case, in any columns; loopwright's own
-//!   `-loads.csv` works as is), or no header and the first three columns are x, y, z. Lines
-//!   starting with `#` are skipped.
+//! - CSV: a header naming `x_m,y_m,z_m` (or `x,y,z`, any case, in any columns), or no header and
+//!   the first three columns are x, y, z. Lines starting with `#` are skipped.
+//!
+//! Which line the points are. loopwright's own files say it, and are read by it: its loads CSV has
+//! the heartline in `x_m,y_m,z_m` and the rail in `rail_x_m,rail_y_m,rail_z_m` (recognised by
+//! those rail columns), and its DXF draws the rail on [`RAIL_LAYER`] and the heartline on
+//! [`HEARTLINE_LAYER`]. Asked for no line in particular, a loads CSV gives its heartline; asked
+//! for the rail, its rail columns. A request the file contradicts (the heartline of a file that
+//! holds only the rail, the rail from the heartline layer) is refused, never read as the other.
 //!
 //! Consecutive points closer than 1 µm (e.g. the doubled station at a curvature step) are merged.
 //!
@@ -27,6 +33,16 @@ use dxf::Drawing;
 use dxf::entities::{EntityType, LwPolyline, Spline};
 use nalgebra::Vector3;
 use std::path::{Path, PathBuf};
+
+use crate::geometry::fit::PointsAre;
+
+/// The layer of loopwright's own DXF holding the rail centreline (`export::dxf` writes it; a test
+/// checks the two agree).
+pub const RAIL_LAYER: &str = "LW-RAIL";
+/// The layer of loopwright's own DXF holding the heartline.
+pub const HEARTLINE_LAYER: &str = "LW-HEARTLINE";
+/// The rail columns of loopwright's loads CSV (x, y, z).
+pub const RAIL_COLUMNS: [&str; 3] = ["rail_x_m", "rail_y_m", "rail_z_m"];
 
 /// Largest file read, bytes: a centreline of the most points allowed is well under this.
 pub const MAX_FILE_BYTES: u64 = 64 << 20;
@@ -49,6 +65,9 @@ pub struct ImportedCentreline {
     pub source: String,
     /// Consecutive duplicate points merged.
     pub merged_duplicates: usize,
+    /// Which line the file says the points are (loopwright's loads CSV and DXF layers); `None`
+    /// when it does not say.
+    pub points_are: Option<PointsAre>,
 }
 
 /// Why a file could not be read as a centreline.
@@ -69,10 +88,22 @@ fn format_err(what: &str, message: impl Into<String>) -> ImportError {
     }
 }
 
-/// Read a centreline file: DXF by extension (`.dxf`, any case), otherwise CSV.
+/// Read a centreline file: DXF by extension (`.dxf`, any case), otherwise CSV; whichever line
+/// the file says it holds.
 pub fn read_centreline(
     path: &Path,
     layer: Option<&str>,
+) -> Result<ImportedCentreline, ImportError> {
+    read_centreline_as(path, layer, None)
+}
+
+/// Read a centreline file as the line `wanted` (rail or heartline; `None`: whichever the file
+/// says): a loads CSV gives that line's columns, and a file that says it holds the other line is
+/// refused (see the module docs).
+pub fn read_centreline_as(
+    path: &Path,
+    layer: Option<&str>,
+    wanted: Option<PointsAre>,
 ) -> Result<ImportedCentreline, ImportError> {
     let io = |message: String| ImportError::Io {
         path: path.to_path_buf(),
@@ -100,7 +131,23 @@ pub fn read_centreline(
         .is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
     if is_dxf {
         let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
-        parse_dxf_bytes(&bytes, layer, &what)
+        let c = parse_dxf_bytes(&bytes, layer, &what)?;
+        match (wanted, c.points_are) {
+            (Some(w), Some(said)) if w != said => {
+                let (w, said, other) = match w {
+                    PointsAre::Rail => ("rail", "heartline", RAIL_LAYER),
+                    PointsAre::Heartline => ("heartline", "rail", HEARTLINE_LAYER),
+                };
+                Err(format_err(
+                    &what,
+                    format!(
+                        "{} is loopwright's {said} layer; --points {w} would read it as the {w}. Use --points {said}, or --layer {other}",
+                        c.source
+                    ),
+                ))
+            }
+            _ => Ok(c),
+        }
     } else {
         if layer.is_some() {
             return Err(format_err(
@@ -115,12 +162,22 @@ pub fn read_centreline(
                 "is not UTF-8 text; a CSV of x,y,z points was expected",
             )
         })?;
-        parse_csv(&text, &what)
+        parse_csv_as(&text, &what, wanted)
     }
 }
 
-/// Parse CSV text of x, y, z points (see the module docs for the accepted layouts).
+/// Parse CSV text of x, y, z points, whichever line it says it holds.
 pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportError> {
+    parse_csv_as(text, what, None)
+}
+
+/// Parse CSV text of x, y, z points as the line `wanted` (see the module docs for the accepted
+/// layouts and how loopwright's loads CSV is read).
+pub fn parse_csv_as(
+    text: &str,
+    what: &str,
+    wanted: Option<PointsAre>,
+) -> Result<ImportedCentreline, ImportError> {
     let lines: Vec<&str> = text
         .lines()
         .filter(|l| !l.trim().is_empty() && !l.trim_start().starts_with('#'))
@@ -144,40 +201,17 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
         None => return Err(format_err(what, "holds no rows")),
     };
     let numeric = |s: &str| s.parse::<f64>().is_ok();
-    let (cols, header, source) = if first.iter().take(3).all(numeric) && first.len() >= 3 {
-        (
-            [0, 1, 2],
-            false,
-            "CSV, first three columns as x, y, z".to_string(),
-        )
-    } else {
-        let find = |names: &[&str]| {
-            first
-                .iter()
-                .position(|h| names.iter().any(|n| h.eq_ignore_ascii_case(n)))
+    let (cols, header, source, points_are) =
+        if first.iter().take(3).all(numeric) && first.len() >= 3 {
+            (
+                [0, 1, 2],
+                false,
+                "CSV, first three columns as x, y, z".to_string(),
+                None,
+            )
+        } else {
+            header_columns(&first, what, wanted)?
         };
-        match (
-            find(&["x_m", "x"]),
-            find(&["y_m", "y"]),
-            find(&["z_m", "z"]),
-        ) {
-            (Some(x), Some(y), Some(z)) => (
-                [x, y, z],
-                true,
-                format!("CSV columns {},{},{}", &first[x], &first[y], &first[z]),
-            ),
-            _ => {
-                let found: Vec<&str> = first.iter().collect();
-                return Err(format_err(
-                    what,
-                    format!(
-                        "has a header without x_m, y_m and z_m columns (found: {}); name them, or give three numeric columns without a header",
-                        found.join(", ")
-                    ),
-                ));
-            }
-        }
-    };
     let mut points = Vec::new();
     let row_of = |rec: &csv::StringRecord, row: usize| -> Result<Vector3<f64>, ImportError> {
         let mut p = [0.0; 3];
@@ -218,7 +252,72 @@ pub fn parse_csv(text: &str, what: &str) -> Result<ImportedCentreline, ImportErr
         }
         points.push(row_of(&rec, i + 2)?);
     }
-    finish(points, source, what)
+    let mut c = finish(points, source, what)?;
+    c.points_are = points_are;
+    Ok(c)
+}
+
+/// The x, y, z columns of a CSV header for the line `wanted`, what they are, and which line the
+/// header says they hold (see the module docs).
+fn header_columns(
+    first: &csv::StringRecord,
+    what: &str,
+    wanted: Option<PointsAre>,
+) -> Result<([usize; 3], bool, String, Option<PointsAre>), ImportError> {
+    let find = |names: &[&str]| {
+        first
+            .iter()
+            .position(|h| names.iter().any(|n| h.eq_ignore_ascii_case(n)))
+    };
+    let all = |c: [Option<usize>; 3]| match c {
+        [Some(x), Some(y), Some(z)] => Some([x, y, z]),
+        _ => None,
+    };
+    let heart = all([
+        find(&["x_m", "x"]),
+        find(&["y_m", "y"]),
+        find(&["z_m", "z"]),
+    ]);
+    let rail = all(RAIL_COLUMNS.map(|n| find(&[n])));
+    let named = |c: [usize; 3]| format!("{},{},{}", &first[c[0]], &first[c[1]], &first[c[2]]);
+    Ok(match (heart, rail, wanted) {
+        (_, Some(r), Some(PointsAre::Rail)) | (None, Some(r), None) => (
+            r,
+            true,
+            format!("CSV rail columns {}", named(r)),
+            Some(PointsAre::Rail),
+        ),
+        (Some(h), Some(r), _) => (
+            h,
+            true,
+            format!(
+                "loopwright loads CSV, heartline columns {} (the rail is in {}: --points rail reads it)",
+                named(h),
+                named(r)
+            ),
+            Some(PointsAre::Heartline),
+        ),
+        (Some(h), None, _) => (h, true, format!("CSV columns {}", named(h)), None),
+        (None, Some(r), Some(PointsAre::Heartline)) => {
+            return Err(format_err(
+                what,
+                format!(
+                    "holds only the rail columns {}, not the heartline that --points heartline asks for; use --points rail",
+                    named(r)
+                ),
+            ));
+        }
+        (None, None, _) => {
+            let found: Vec<&str> = first.iter().collect();
+            return Err(format_err(
+                what,
+                format!(
+                    "has a header without x_m, y_m and z_m columns (found: {}); name them, or give three numeric columns without a header",
+                    found.join(", ")
+                ),
+            ));
+        }
+    })
 }
 
 fn check_coord(v: f64, what: &str, at: &str) -> Result<(), ImportError> {
@@ -275,6 +374,7 @@ fn finish(
         points_m: points,
         source,
         merged_duplicates: merged,
+        points_are: None,
     })
 }
 
@@ -379,7 +479,15 @@ pub fn from_drawing(
             )?;
         }
     }
-    finish(raw, format!("DXF {kind} on layer '{layer_name}'"), what)
+    let mut c = finish(raw, format!("DXF {kind} on layer '{layer_name}'"), what)?;
+    c.points_are = if layer_name.eq_ignore_ascii_case(RAIL_LAYER) {
+        Some(PointsAre::Rail)
+    } else if layer_name.eq_ignore_ascii_case(HEARTLINE_LAYER) {
+        Some(PointsAre::Heartline)
+    } else {
+        None
+    };
+    Ok(c)
 }
 
 /// The DXF "arbitrary axis algorithm": the object coordinate system of an extrusion direction.

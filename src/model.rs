@@ -46,7 +46,8 @@ pub enum Curve<'a> {
         shape: &'a [f64],
         profile: CurvatureProfile,
     },
-    /// Points read from a drawing, to be fitted by a smoothing spline.
+    /// Points read from a drawing, to be fitted (interpolated when exact, smoothed when noisy,
+    /// in pieces at curvature jumps; see [`crate::geometry::fit`]).
     Drawing(&'a Drawing),
 }
 

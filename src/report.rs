@@ -3,6 +3,7 @@
 use crate::checks::limits::DESIGN_MARGIN;
 use crate::checks::{CheckLine, Place, Summary};
 use crate::compare::{Comparison, Entry, KeyFigures};
+use crate::geometry::fit::FitMethod;
 use crate::model::{Assessment, Origin};
 use crate::optimiser::Infeasible;
 use crate::units::describe_speed;
@@ -170,12 +171,17 @@ pub fn check_summary(a: &Assessment) -> String {
     );
     row(
         &mut out,
-        "smoothing spline fit",
+        match fit.method {
+            FitMethod::Interpolated => "fit: interpolated",
+            FitMethod::Smoothed => "fit: smoothed",
+        },
         format!(
-            "RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS)",
+            "RMS {:.2} mm, largest {:.2} mm (tolerance {:.2} mm RMS; noise about {:.3} mm); {} curvature jump(s)",
             fit.rms_residual_m * 1e3,
             fit.max_residual_m * 1e3,
-            fit.tolerance_m * 1e3
+            fit.tolerance_m * 1e3,
+            fit.noise_estimate_m * 1e3,
+            fit.curvature_jumps
         ),
     );
     row(
