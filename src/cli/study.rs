@@ -160,7 +160,19 @@ fn read_sweep_file(path: Option<&Path>) -> Result<(BriefInput, SweepInput), CliE
 
 /// The sweep a command line asks for (file overlaid with flags), checked.
 pub fn sweep_spec(args: &SweepArgs) -> Result<SweepSpec, CliError> {
-    let (file_brief, file_sweep) = read_sweep_file(args.file.as_deref())?;
+    // As for `design`: without a sweep file, flags start from the documented defaults, not the
+    // demo brief; only a bare `loopwright sweep` sweeps the demo.
+    let any_flag = args.entry_speed.is_some()
+        || args.max_g.is_some()
+        || args.min_top_g.is_some()
+        || args.shape.is_some()
+        || args.spacing.is_some()
+        || args.name.is_some()
+        || args.limits.is_some();
+    let (file_brief, file_sweep) = match args.file.as_deref() {
+        None if any_flag => (BriefInput::default(), SweepInput::default()),
+        path => read_sweep_file(path)?,
+    };
     let flags = BriefInput {
         name: args.name.clone(),
         spacing_m: args.spacing,
