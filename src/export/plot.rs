@@ -1,19 +1,137 @@
 //! Loads plot (`<name>-loads.svg`): normal, tangential (and lateral, when present) load in g
 //! against heartline arc length, with the brief's limits, the loop span shaded, the duration
-//! envelope when the brief has one, and the caution. Drawn with the chart kit ([`super::chart`]).
+//! envelope (saying whether it was enforced or only reported), and the caution. A train shows the
+//! normal load of its front, middle and rear car and the range over every car, labelled; the
+//! top-load marker sits on the curve of the car it belongs to. Drawn with the chart kit
+//! ([`super::chart`]).
 
 use svg::node::element::{Group, Rectangle};
 
 use super::chart::{
-    Frame, LegendEntry, Look, caution_block, clip, colour, dot, fmt_num, legend, page, px, rule,
-    text,
+    Frame, Look, caution_block, colour, dot, fitting_font_px, fmt_num, legend, page, px, rule,
+    text, text_width_px,
 };
 use crate::model::Assessment;
 
 /// Width of the loads plot, px.
-pub const WIDTH_PX: f64 = 1000.0;
+pub const WIDTH_PX: f64 = 1080.0;
 /// Height of the loads plot, px.
 pub const HEIGHT_PX: f64 = 600.0;
+
+/// Left edge of the legend, px (right of the plot area).
+const LEGEND_X: f64 = 820.0;
+
+/// One car's normal-load curve on the plot.
+struct CarCurve {
+    /// 0 is the front car.
+    car: usize,
+    label: String,
+    colour: &'static str,
+    dash: Option<&'static str>,
+    points: Vec<(f64, f64)>,
+}
+
+/// The cars drawn for a train (none for one car, whose curve is the plain normal load): every car
+/// of a train of two or three, else the front, middle and rear car.
+fn car_curves(design: &Assessment) -> Vec<CarCurve> {
+    let rides = &design.best.train.cars;
+    let n = rides.len();
+    if n < 2 {
+        return Vec::new();
+    }
+    let mut picks = vec![(0, "front car"), (n / 2, "middle car"), (n - 1, "rear car")];
+    picks.dedup_by_key(|p| p.0);
+    let looks = [
+        (colour::NORMAL, None),
+        (colour::CAR_MIDDLE, Some("6 3")),
+        (colour::CAR_REAR, Some("2 2")),
+    ];
+    picks
+        .iter()
+        .enumerate()
+        .map(|(i, &(car, role))| {
+            let (colour, dash) = looks[if i + 1 == picks.len() { 2 } else { i }];
+            CarCurve {
+                car,
+                label: format!("normal g, {role} (car {})", car + 1),
+                colour,
+                dash,
+                points: rides[car]
+                    .points
+                    .iter()
+                    .map(|p| (p.s_m, p.normal_g))
+                    .collect(),
+            }
+        })
+        .collect()
+}
+
+/// A shaded band between the least and the largest normal load of any car at each station.
+fn range_band(chart: &Frame, design: &Assessment) -> svg::node::element::Polygon {
+    let rides = &design.best.train.cars;
+    let n = rides.iter().map(|r| r.points.len()).min().unwrap_or(0);
+    let at = |i: usize, pick: fn(f64, f64) -> f64| {
+        let g = rides
+            .iter()
+            .map(|r| r.points[i].normal_g)
+            .reduce(pick)
+            .unwrap_or(0.0);
+        chart.to_px(rides[0].points[i].s_m, g)
+    };
+    let mut pts: Vec<(f64, f64)> = (0..n).map(|i| at(i, f64::max)).collect();
+    pts.extend((0..n).rev().map(|i| at(i, f64::min)));
+    svg::node::element::Polygon::new()
+        .set("points", super::chart::points_attr(&pts))
+        .set("fill", colour::CAR_RANGE)
+        .set("stroke", "none")
+}
+
+/// The car with the least normal load at the top station, and where that car's own curve is
+/// then (its heartline position and load), so the marker sits on that car's curve.
+fn worst_top_car(design: &Assessment) -> (usize, f64, f64) {
+    let top = design.best.path.top_index();
+    let car = design
+        .best
+        .cars
+        .iter()
+        .min_by(|a, b| a.top_normal_g.total_cmp(&b.top_normal_g))
+        .map_or(0, |c| c.car);
+    design
+        .best
+        .train
+        .cars
+        .get(car)
+        .unwrap_or(&design.best.ride)
+        .points
+        .get(top)
+        .map_or((car, f64::NAN, f64::NAN), |p| (car, p.s_m, p.normal_g))
+}
+
+/// The heartline span where the rider is inverted (pitch past 90°: cos θ < 0), from the ride's
+/// stations; `None` for a path that never inverts.
+fn inverted_span_m(design: &Assessment) -> Option<(f64, f64)> {
+    let inverted = design
+        .best
+        .path
+        .stations
+        .iter()
+        .filter(|st| st.pitch_rad.cos() < 0.0)
+        .map(|st| st.s_m);
+    inverted.fold(None, |acc, s| match acc {
+        None => Some((s, s)),
+        Some((a, b)) => Some((a.min(s), b.max(s))),
+    })
+}
+
+/// Whether the duration table was enforced (a limits file: failing it is an error) or only
+/// reported (the built-in illustrative table), in the words the terminal and JSON use.
+pub fn envelope_status(design: &Assessment) -> &'static str {
+    if design.envelope_enforced() {
+        "enforced"
+    } else {
+        "reported, not enforced"
+    }
+}
 
 /// SVG text of the loads plot.
 pub fn loads_svg(design: &Assessment) -> String {
@@ -24,6 +142,7 @@ pub fn loads_svg(design: &Assessment) -> String {
         pts.iter().map(|p| (p.s_m, f(p))).collect()
     };
     let normal = series(|p| p.normal_g);
+    let cars = car_curves(design);
     let tangential = series(|p| p.tangential_g);
     let lateral = series(|p| p.lateral_g);
     let has_lateral = pts.iter().any(|p| p.lateral_g.abs() > 1e-9);
@@ -43,6 +162,7 @@ pub fn loads_svg(design: &Assessment) -> String {
     };
     let mut ys = vec![0.0, b.max_g, b.min_top_g];
     ys.extend(normal.iter().chain(&tangential).map(|p| p.1));
+    ys.extend(cars.iter().flat_map(|c| c.points.iter().map(|p| p.1)));
     if has_lateral {
         ys.extend(lateral.iter().map(|p| p.1));
     }
@@ -57,19 +177,21 @@ pub fn loads_svg(design: &Assessment) -> String {
     let chart = Frame::with_loose_ticks((80.0, 84.0, 720.0, 400.0), x_range, y_range, 10, 8);
     let mut doc = page(WIDTH_PX, HEIGHT_PX, None);
 
-    // One title line: a long brief title is cut (the elevation shows it in full).
-    let title = format!("Loads along the heartline - {}", clip(&b.title, 60));
+    // One title line, in full: a long brief title gets a smaller font, never an ellipsis.
+    let title = format!("Loads along the heartline - {}", b.title);
+    let title_px = fitting_font_px(&title, 18.0, WIDTH_PX - 80.0 - 20.0, true);
     let subtitle = format!(
-        "{} loop, entry speed {} m/s ({} km/h); peak normal {} g, normal at the top {} g",
+        "{} loop, entry speed {} m/s ({} km/h); peak normal {} g, least normal at the top {} g{}",
         design.best.label(),
         fmt_num(b.entry_speed_m_s, 2),
         fmt_num(b.entry_speed_m_s * 3.6, 1),
         fmt_num(s.peak_normal_g, 2),
-        fmt_num(s.top_normal_g, 2)
+        fmt_num(s.top_normal_g, 2),
+        if cars.is_empty() { "" } else { " (worst car)" }
     );
     doc = doc
         .add(
-            text(80.0, 32.0, &title, 18.0, "start")
+            text(80.0, 32.0, &title, title_px, "start")
                 .set("font-weight", "bold")
                 .set("id", "title"),
         )
@@ -115,16 +237,15 @@ pub fn loads_svg(design: &Assessment) -> String {
             )
             .set("id", "limit-max-g"),
     );
-    // The top limit applies at the top station only: a short line there, not a full-width one.
-    let half = 0.06 * (chart.x_range.1 - chart.x_range.0);
-    let top_s = s.top_s_m;
-    if top_s.is_finite() {
+    // The top limit bounds the load while the rider is inverted (pitch past 90°, cos θ < 0): the
+    // line spans exactly that part of the heartline.
+    if let Some((a, c)) = inverted_span_m(design) {
         doc = doc.add(
             chart
                 .limit_line(
                     b.min_top_g,
-                    top_s - half,
-                    top_s + half,
+                    a,
+                    c,
                     colour::LIMIT,
                     &format!("min top {} g", fmt_num(b.min_top_g, 2)),
                     true,
@@ -133,7 +254,22 @@ pub fn loads_svg(design: &Assessment) -> String {
         );
     }
 
-    doc = doc.add(envelope_layer(design, &chart, x_range));
+    // Envelope labels keep clear of every curve drawn.
+    let mut drawn: Vec<&[(f64, f64)]> = vec![&tangential];
+    if has_lateral {
+        drawn.push(&lateral);
+    }
+    if cars.is_empty() {
+        drawn.push(&normal);
+    }
+    drawn.extend(cars.iter().map(|c| c.points.as_slice()));
+    let curves_px: Vec<(f64, f64)> = drawn
+        .iter()
+        .flat_map(|c| c.iter())
+        .filter(|p| p.0.is_finite() && p.1.is_finite())
+        .map(|p| chart.to_px(p.0, p.1))
+        .collect();
+    doc = doc.add(envelope_layer(design, &chart, x_range, &curves_px));
     doc = doc.add(
         chart
             .series(&tangential, colour::TANGENTIAL, 2.0, None)
@@ -146,42 +282,69 @@ pub fn loads_svg(design: &Assessment) -> String {
                 .set("id", "lateral-g"),
         );
     }
-    doc = doc.add(
-        chart
-            .series(&normal, colour::NORMAL, 2.4, None)
-            .set("id", "normal-g"),
-    );
-    if top_s.is_finite() && s.top_normal_g.is_finite() {
+    let mut car_entries: Vec<(String, &str, Option<&str>)> = Vec::new();
+    if cars.is_empty() {
         doc = doc.add(
-            dot(
-                chart.x_px(top_s),
-                chart.y_px(s.top_normal_g),
-                4.0,
-                colour::NORMAL,
-            )
-            .set("id", "top-marker"),
+            chart
+                .series(&normal, colour::NORMAL, 2.4, None)
+                .set("id", "normal-g"),
+        );
+    } else {
+        doc = doc.add(range_band(&chart, design).set("id", "normal-g-range"));
+        car_entries.push((
+            format!(
+                "normal g, range of all {} cars",
+                design.best.train.cars.len()
+            ),
+            colour::CAR_RANGE,
+            None,
+        ));
+        for c in &cars {
+            doc = doc.add(
+                chart
+                    .series(&c.points, c.colour, 2.0, c.dash)
+                    .set("id", format!("normal-g-car-{}", c.car))
+                    .set("class", "car-normal-g"),
+            );
+            car_entries.push((c.label.clone(), c.colour, c.dash));
+        }
+    }
+    // The top-load marker on the curve of the car with the least top load.
+    let (top_car, top_s, top_g) = worst_top_car(design);
+    if top_s.is_finite() && top_g.is_finite() {
+        let fill = cars
+            .iter()
+            .find(|c| c.car == top_car)
+            .map_or(colour::NORMAL, |c| c.colour);
+        doc = doc.add(
+            dot(chart.x_px(top_s), chart.y_px(top_g), 4.0, fill)
+                .set("id", "top-marker")
+                .set("data-car", top_car),
         );
     }
     doc = doc.add(chart.axes(Look::Drawing, "heartline arc length s (m)", "load (g)"));
 
-    let mut entries: Vec<LegendEntry> = vec![
-        ("normal g", colour::NORMAL, None),
-        ("tangential g", colour::TANGENTIAL, None),
-    ];
+    let front = if cars.is_empty() { "" } else { ", front car" };
+    let mut entries: Vec<(String, &str, Option<&str>)> = if cars.is_empty() {
+        vec![("normal g".into(), colour::NORMAL, None)]
+    } else {
+        car_entries
+    };
+    entries.push((format!("tangential g{front}"), colour::TANGENTIAL, None));
     if has_lateral {
-        entries.push(("lateral g", colour::LATERAL, Some("2 3")));
+        entries.push((format!("lateral g{front}"), colour::LATERAL, Some("2 3")));
     }
-    entries.push(("limits", colour::LIMIT, Some("8 5")));
+    entries.push(("limits".into(), colour::LIMIT, Some("8 5")));
     if design.verification.envelope.is_some() {
-        entries.push(("envelope (normal)", colour::ENVELOPE, Some("3 4")));
+        entries.push(("envelope (normal)".into(), colour::ENVELOPE, Some("3 4")));
     }
-    doc = doc.add(legend(Look::Drawing, 820.0, chart.top + 10.0, &entries));
+    doc = doc.add(legend(Look::Drawing, LEGEND_X, chart.top + 10.0, &entries));
     let legend_end = chart.top + 10.0 + 20.0 * entries.len() as f64;
     let band_y = legend_end + 8.0;
     doc = doc
         .add(
             Rectangle::new()
-                .set("x", 820)
+                .set("x", LEGEND_X)
                 .set("y", px(band_y - 6.0))
                 .set("width", 28)
                 .set("height", 12)
@@ -189,6 +352,19 @@ pub fn loads_svg(design: &Assessment) -> String {
                 .set("stroke", "#b8c4d4"),
         )
         .add(text(856.0, band_y + 4.5, "loop proper", 13.0, "start"));
+    if design.verification.envelope.is_some() {
+        doc = doc.add(
+            text(
+                LEGEND_X,
+                band_y + 30.0,
+                &format!("envelope table: {}", envelope_status(design)),
+                12.0,
+                "start",
+            )
+            .set("id", "envelope-status")
+            .set("fill", colour::MUTED),
+        );
+    }
 
     let (caution, _) = caution_block(Look::Drawing, 80.0, 560.0, 125);
     doc.add(caution).to_string()
@@ -197,13 +373,19 @@ pub fn loads_svg(design: &Assessment) -> String {
 /// The duration envelope on the normal axis: each level inside the plotted range as a thin dotted
 /// line labelled with how long it may be exceeded, and every failing level's worst run (any axis)
 /// shaded, so a reader sees where the ride stays beyond a level too long.
-fn envelope_layer(design: &Assessment, chart: &Frame, x_range: (f64, f64)) -> Group {
+fn envelope_layer(
+    design: &Assessment,
+    chart: &Frame,
+    x_range: (f64, f64),
+    curves_px: &[(f64, f64)],
+) -> Group {
     use crate::checks::envelope::Axis;
     let mut g = Group::new().set("id", "envelope");
     let Some(env) = &design.verification.envelope else {
         return g;
     };
     let (lo, hi) = chart.y_range;
+    let mut taken: Vec<LabelBox> = Vec::new();
     for line in env.plot_lines() {
         if let Some((a, b)) = line.run_s_m
             && !line.pass
@@ -217,41 +399,99 @@ fn envelope_layer(design: &Assessment, chart: &Frame, x_range: (f64, f64)) -> Gr
         if line.axis != Axis::Normal || !(lo..=hi).contains(&line.level_g) {
             continue;
         }
-        let how_long = if line.allowed_s == 0.0 {
-            "0 s".to_string()
+        // A level with no allowed duration is an absolute bound.
+        let label = if line.allowed_s == 0.0 {
+            format!("{} g absolute", fmt_num(line.level_g, 1))
         } else {
-            format!("{} s", fmt_num(line.allowed_s, 1))
+            format!(
+                "{} g for ≤ {} s",
+                fmt_num(line.level_g, 1),
+                fmt_num(line.allowed_s, 1)
+            )
         };
         let yy = chart.y_px(line.level_g);
-        g = g
-            .add(
-                rule(
-                    chart.x_px(x_range.0),
-                    yy,
-                    chart.x_px(x_range.1),
-                    yy,
-                    if line.pass {
-                        colour::ENVELOPE
-                    } else {
-                        colour::LIMIT
-                    },
-                )
-                .set("stroke-width", 1)
-                .set("stroke-dasharray", "3 4")
-                .set("class", "envelope-level"),
+        g = g.add(
+            rule(
+                chart.x_px(x_range.0),
+                yy,
+                chart.x_px(x_range.1),
+                yy,
+                if line.pass {
+                    colour::ENVELOPE
+                } else {
+                    colour::LIMIT
+                },
             )
-            .add(
-                text(
-                    chart.x_px(x_range.0) + 4.0,
-                    yy - 4.0,
-                    &format!("{} g for ≤ {how_long}", fmt_num(line.level_g, 1)),
-                    10.0,
-                    "start",
-                )
-                .set("fill", colour::ENVELOPE),
+            .set("stroke-width", 1)
+            .set("stroke-dasharray", "3 4")
+            .set("class", "envelope-level"),
+        );
+        let width = text_width_px(&label, ENVELOPE_LABEL_PX, false);
+        if let Some(b) = clear_spot(chart, yy, width, curves_px, &taken) {
+            taken.push(b);
+            g = g.add(
+                text(b.x0, b.y1 - 2.0, &label, ENVELOPE_LABEL_PX, "start")
+                    .set("fill", colour::ENVELOPE)
+                    .set("class", "envelope-label"),
             );
+        }
     }
     g
+}
+
+/// Font size of the envelope labels, px.
+const ENVELOPE_LABEL_PX: f64 = 10.0;
+
+/// A label's box, px: x0..x1 across, y0 (top) .. y1 (bottom).
+#[derive(Debug, Clone, Copy)]
+struct LabelBox {
+    x0: f64,
+    x1: f64,
+    y0: f64,
+    y1: f64,
+}
+
+impl LabelBox {
+    fn holds(&self, (x, y): (f64, f64)) -> bool {
+        (self.x0..=self.x1).contains(&x) && (self.y0..=self.y1).contains(&y)
+    }
+    fn overlaps(&self, o: &LabelBox) -> bool {
+        self.x0 < o.x1 && o.x0 < self.x1 && self.y0 < o.y1 && o.y0 < self.y1
+    }
+}
+
+/// Where a label `width` px wide for the line at `yy` px fits inside the frame, just above the line
+/// or else just below it, with no curve point and no other label inside it: the leftmost such
+/// place on a 10 px grid, or `None` (the level is then left unlabelled rather than overdrawn).
+fn clear_spot(
+    chart: &Frame,
+    yy: f64,
+    width: f64,
+    curves_px: &[(f64, f64)],
+    taken: &[LabelBox],
+) -> Option<LabelBox> {
+    let (left, right) = (chart.left + 4.0, chart.left + chart.width - 4.0);
+    let (top, bottom) = (chart.top + 2.0, chart.top + chart.height - 2.0);
+    let h = ENVELOPE_LABEL_PX + 2.0;
+    for (y0, y1) in [(yy - 2.0 - h, yy - 2.0), (yy + 2.0, yy + 2.0 + h)] {
+        if y0 < top || y1 > bottom {
+            continue;
+        }
+        let mut x0 = left;
+        while x0 + width <= right {
+            let b = LabelBox {
+                x0,
+                x1: x0 + width,
+                y0,
+                y1,
+            };
+            if !curves_px.iter().any(|p| b.holds(*p)) && !taken.iter().any(|t| t.overlaps(&b)) {
+                return Some(b);
+            }
+            x0 += 10.0;
+        }
+    }
+    None
 }
 
 #[cfg(test)]

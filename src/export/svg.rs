@@ -173,29 +173,47 @@ pub fn elevation_svg_many(designs: &[&Assessment]) -> String {
                 &format!("rail height {} m", fmt_num(s.rail_height_m, 2)),
                 colour::RAIL,
             ));
-            // Footprint: loop entry to loop exit along X, heartline.
+            // Footprint: the loop proper's extent along X, heartline (for a circle, whose entry
+            // and exit share one X, its diameter); the entry-to-exit distance is added when it
+            // differs.
             let in_loop: Vec<_> = st.iter().filter(|s| s.in_loop).collect();
-            if let (Some(a), Some(b)) = (in_loop.first(), in_loop.last()) {
-                let label = format!(
-                    "loop footprint (heartline) {} m",
-                    fmt_num(s.footprint_length_m, 2)
-                );
+            let lowest = in_loop
+                .iter()
+                .min_by(|a, b| a.heartline_m.x.total_cmp(&b.heartline_m.x));
+            let highest = in_loop
+                .iter()
+                .max_by(|a, b| a.heartline_m.x.total_cmp(&b.heartline_m.x));
+            if let (Some(a), Some(b)) = (lowest, highest) {
+                let extent_m = b.heartline_m.x - a.heartline_m.x;
+                let mut label = format!("loop footprint (heartline) {} m", fmt_num(extent_m, 2));
+                if (extent_m - s.footprint_length_m).abs() >= 0.005 {
+                    label.push_str(&format!(
+                        "; entry to exit {} m",
+                        fmt_num(s.footprint_length_m, 2)
+                    ));
+                }
                 let (xa, _) = frame.to_px(a.heartline_m.x, 0.0);
                 let (xb, _) = frame.to_px(b.heartline_m.x, 0.0);
                 if (xb - xa).abs() >= 20.0 {
-                    dims = dims.add(horizontal_dim(
-                        &frame,
-                        bottom + 26.0,
-                        (a.heartline_m.x, a.heartline_m.z),
-                        (b.heartline_m.x, b.heartline_m.z),
-                        &label,
-                    ));
+                    dims = dims.add(
+                        horizontal_dim(
+                            &frame,
+                            bottom + 26.0,
+                            (a.heartline_m.x, a.heartline_m.z),
+                            (b.heartline_m.x, b.heartline_m.z),
+                            &label,
+                        )
+                        .set("id", "footprint"),
+                    );
                 } else {
-                    // Entry and exit (nearly) coincide, as in a closed circle: say so in words.
-                    dims = dims.add(text(LEFT_PX, bottom + 40.0, &label, 13.0, "start"));
+                    // A loop too narrow to dimension at this scale: say it in words.
+                    dims = dims.add(
+                        text(LEFT_PX, bottom + 40.0, &label, 13.0, "start").set("id", "footprint"),
+                    );
                 }
                 below = bottom + 56.0;
             }
+            dims = dims.add(marks(&frame, d));
             dims = dims.add(text(
                 LEFT_PX,
                 below + 10.0,
@@ -233,6 +251,78 @@ pub fn elevation_svg_many(designs: &[&Assessment]) -> String {
         .add(legend(Look::Drawing, legend_x, bar_y, &legend_entries))
         .add(caution)
         .to_string()
+}
+
+/// What the elevation marks on the loop itself: the direction of travel (an arrow over the entry
+/// lead), the top radius (from the heartline's top down to its centre of curvature) and the point
+/// of peak normal load (a dot on the heartline with its value).
+fn marks(frame: &Frame, d: &Assessment) -> Group {
+    let st = &d.best.path.stations;
+    let s = &d.best.summary;
+    let mut g = Group::new().set("id", "marks");
+    let (Some(first), Some(entry)) = (st.first(), st.iter().find(|s| s.in_loop)) else {
+        return g;
+    };
+    // Direction of travel: along +X from the start of the lead to the loop entry, 14 px above it.
+    let (x0, y0) = frame.to_px(first.heartline_m.x, first.heartline_m.z);
+    let (x1, _) = frame.to_px(entry.heartline_m.x, entry.heartline_m.z);
+    let (x0, x1) = (x0, x1.max(x0 + 30.0));
+    g = g
+        .add(
+            dim_line(x0, y0 - 14.0, x1, y0 - 14.0, colour::INK, 1.4)
+                .set("marker-end", "url(#arrow)")
+                .set("id", "travel-arrow"),
+        )
+        .add(text(x0, y0 - 20.0, "direction of travel", 11.0, "start"));
+    // Top radius: the top's centre of curvature lies R below it (the track is level there).
+    let top = d.best.path.top();
+    let r = d.best.top_radius_m;
+    if r.is_finite() && r > 0.0 {
+        let (tx, ty) = frame.to_px(top.heartline_m.x, top.heartline_m.z);
+        let (_, cy) = frame.to_px(top.heartline_m.x, top.heartline_m.z - r);
+        g = g
+            .add(
+                dim_line(tx, cy, tx, ty, colour::INK, 1.0)
+                    .set("marker-end", "url(#arrow)")
+                    .set("id", "top-radius"),
+            )
+            .add(crate::export::chart::dot(tx, cy, 2.5, colour::INK))
+            .add(text(
+                tx + 6.0,
+                (cy + ty) / 2.0,
+                &format!("top radius {} m", fmt_num(r, 2)),
+                12.0,
+                "start",
+            ));
+    }
+    // Peak normal load: where the worst car feels it.
+    let peak = st.iter().min_by(|a, b| {
+        (a.s_m - s.peak_normal_s_m)
+            .abs()
+            .total_cmp(&(b.s_m - s.peak_normal_s_m).abs())
+    });
+    if let Some(p) = peak
+        && s.peak_normal_g.is_finite()
+    {
+        let (px_, py_) = frame.to_px(p.heartline_m.x, p.heartline_m.z);
+        g = g
+            .add(
+                crate::export::chart::dot(px_, py_, 4.5, colour::LIMIT)
+                    .set("id", "peak-load")
+                    .set("data-s-m", fmt_num(p.s_m, 2)),
+            )
+            .add(
+                text(
+                    px_ - 8.0,
+                    py_ - 8.0,
+                    &format!("peak {} g", fmt_num(s.peak_normal_g, 2)),
+                    12.0,
+                    "end",
+                )
+                .set("fill", colour::LIMIT),
+            );
+    }
+    g
 }
 
 /// An arrowhead marker, reversed at the start of a line (SVG 2 `auto-start-reverse`).
