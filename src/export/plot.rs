@@ -89,6 +89,9 @@ fn range_band(chart: &Frame, design: &Assessment) -> svg::node::element::Polygon
 /// The car with the least normal load at the top station, and where that car's own curve is
 /// then (its heartline position and load), so the marker sits on that car's curve.
 fn worst_top_car(design: &Assessment) -> (usize, f64, f64) {
+    if design.best.path.stations.is_empty() {
+        return (0, f64::NAN, f64::NAN);
+    }
     let top = design.best.path.top_index();
     let car = design
         .best
@@ -534,5 +537,112 @@ mod tests {
         );
         // A planar loop has no lateral load, so no lateral series is drawn.
         assert!(!svg.contains("lateral-g"));
+    }
+
+    /// The lossless 10 m circle assessed like a design (envelope included) under the demo brief.
+    fn assessed_circle() -> Assessment {
+        let d = crate::export::svg::tests::circle_design(10.0);
+        let curve = crate::model::Curve::family(crate::brief::ShapeKind::Circle, &[], 10.0);
+        crate::model::assess(&d.brief, &curve, vec![], 0).unwrap()
+    }
+
+    /// The frame of the plot area, px (left, top, right, bottom), as `loads_svg` sets it.
+    const AREA: (f64, f64, f64, f64) = (80.0, 84.0, 800.0, 484.0);
+
+    // Envelope levels read "absolute" when no duration is allowed (the table's own meaning:
+    // a level with 0 s may never be exceeded), and every label lies inside the frame with no
+    // point of a drawn curve inside its box (boxes from the label's estimated width,
+    // `text_width_px`, and its 10 px font).
+    #[test]
+    fn envelope_labels_say_absolute_and_stay_clear() {
+        use crate::export::svg::tests::{parse, points};
+        let d = assessed_circle();
+        let svg = loads_svg(&d);
+        assert!(
+            svg.contains("g absolute"),
+            "an absolute level is labelled so"
+        );
+        assert!(!svg.contains("for ≤ 0 s"));
+        let tags = parse(&svg);
+        let curves: Vec<(f64, f64)> = tags
+            .iter()
+            .filter(|t| t.0 == "polyline")
+            .filter(|t| {
+                t.1.get("id")
+                    .is_some_and(|id| id.ends_with("-g") || id.starts_with("normal-g"))
+            })
+            .flat_map(|t| points(&t.1["points"]))
+            .collect();
+        assert!(curves.len() > 100);
+        let labels: Vec<_> = tags
+            .iter()
+            .filter(|t| t.1.get("class").is_some_and(|c| c == "envelope-label"))
+            .collect();
+        assert!(labels.len() >= 3, "{}", labels.len());
+        for t in labels {
+            let x: f64 = t.1["x"].parse().unwrap();
+            let y: f64 = t.1["y"].parse().unwrap();
+            let w = text_width_px(&t.2, ENVELOPE_LABEL_PX, false);
+            let (x0, x1, y0, y1) = (x, x + w, y - ENVELOPE_LABEL_PX, y + 2.0);
+            assert!(
+                x0 >= AREA.0 && x1 <= AREA.2 && y0 >= AREA.1 && y1 <= AREA.3,
+                "{} outside the frame",
+                t.2
+            );
+            assert!(
+                !curves
+                    .iter()
+                    .any(|&(px_, py)| (x0..=x1).contains(&px_) && (y0..=y1).contains(&py)),
+                "{} overlaps a curve",
+                t.2
+            );
+        }
+        // Without a limits file the table is only reported, and the plot says so.
+        assert!(svg.contains("envelope table: reported, not enforced"));
+        let mut enforced = d.clone();
+        enforced.brief.limits_table =
+            Some(crate::brief::limits_table::EnvelopeTable::illustrative());
+        assert!(loads_svg(&enforced).contains("envelope table: enforced"));
+    }
+
+    // The min-top limit bounds the load while the rider is inverted: on a circle of radius R
+    // entered at s0 that is s0 + πR/2 to s0 + 3πR/2 (pitch 90° to 270°; circle geometry), read
+    // with the loop band as the scale (it spans the loop proper, s0 to s0 + 2πR).
+    #[test]
+    fn min_top_line_spans_the_inverted_part() {
+        use crate::export::svg::tests::{by_id, parse};
+        use std::f64::consts::PI;
+        let d = assessed_circle();
+        let svg = loads_svg(&d);
+        let tags = parse(&svg);
+        let band = by_id(&tags, "loop-span");
+        let bx: f64 = band.1["x"].parse().unwrap();
+        let bw: f64 = band.1["width"].parse().unwrap();
+        let (l0, l1) = d.best.path.loop_span_m;
+        let px_m = bw / (l1 - l0);
+        let group = by_id(&tags, "limit-min-top");
+        let i = tags.iter().position(|t| std::ptr::eq(t, group)).unwrap();
+        let line = &tags[i + 1].1;
+        let (x1, x2): (f64, f64) = (line["x1"].parse().unwrap(), line["x2"].parse().unwrap());
+        let s_of = |x: f64| l0 + (x - bx) / px_m;
+        let r = 10.0;
+        let tol = d.best.spacing_m + 0.05 / px_m;
+        assert!((s_of(x1) - (l0 + PI * r / 2.0)).abs() < tol, "{}", s_of(x1));
+        assert!((s_of(x2) - (l0 + 1.5 * PI * r)).abs() < tol, "{}", s_of(x2));
+    }
+
+    // A title of any length is shown in full: no ellipsis, and set in a size whose estimated
+    // width fits the page.
+    #[test]
+    fn long_titles_are_not_cut() {
+        let mut d = crate::export::svg::tests::circle_design(10.0);
+        d.brief.title = "A very long brief title ".repeat(5);
+        let svg = loads_svg(&d);
+        assert!(!svg.contains('…'));
+        let tags = crate::export::svg::tests::parse(&svg);
+        let t = crate::export::svg::tests::by_id(&tags, "title");
+        assert!(t.2.contains(d.brief.title.trim_end()), "{}", t.2);
+        let size: f64 = t.1["font-size"].parse().unwrap();
+        assert!(80.0 + text_width_px(&t.2, size, true) <= WIDTH_PX);
     }
 }

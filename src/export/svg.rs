@@ -611,4 +611,49 @@ pub(crate) mod tests {
         let _ = parse(&super::super::plot::loads_svg(&d));
         assert!(super::super::dxf::dxf_bytes(&d).is_err());
     }
+    // A circle's entry and exit share one X, so its footprint along X is its diameter 2R, not
+    // 0 (circle geometry); the drawing also marks the direction of travel (+X at entry), the top
+    // radius (a line from the top down R to the centre, on the drawing's own scale) and the point
+    // of peak load (the bottom of a lossless circle, n = 1 + v²/(gR): Halliday, Resnick & Walker).
+    #[test]
+    fn elevation_marks_travel_top_radius_peak_and_a_true_footprint() {
+        let d = circle_design(10.0);
+        let svg = elevation_svg(&d);
+        let tags = parse(&svg);
+        let foot: String = tags
+            .iter()
+            .filter(|t| t.0 == "text")
+            .map(|t| t.2.clone())
+            .filter(|t| t.contains("loop footprint"))
+            .collect();
+        assert!(
+            foot.contains("loop footprint (heartline) 20.00 m"),
+            "{foot}"
+        );
+        assert!(foot.contains("entry to exit 0.00 m"), "{foot}");
+        // Direction: the arrow points along +X (its end, with the arrowhead, to the right).
+        let arrow = &by_id(&tags, "travel-arrow").1;
+        let (x1, x2): (f64, f64) = (arrow["x1"].parse().unwrap(), arrow["x2"].parse().unwrap());
+        assert!(x2 > x1 && arrow["marker-end"].contains("arrow"));
+        assert!(svg.contains("direction of travel"));
+        // Top radius: R on the scale bar's scale.
+        let bar = &by_id(&tags, "scale-bar-frame").1;
+        let bar_px: f64 = bar["width"].parse().unwrap();
+        let bar_m: f64 = tags
+            .iter()
+            .filter(|t| t.0 == "text")
+            .find_map(|t| t.2.strip_suffix(" m").and_then(|v| v.parse::<f64>().ok()))
+            .unwrap();
+        let line = &by_id(&tags, "top-radius").1;
+        let (y1, y2): (f64, f64) = (line["y1"].parse().unwrap(), line["y2"].parse().unwrap());
+        let r_m = (y1 - y2).abs() * bar_m / bar_px;
+        assert!((r_m - 10.0).abs() < 0.02, "{r_m}");
+        assert!(svg.contains("top radius 10.00 m"));
+        // Peak load at the circle's bottom, i.e. at the heartline's lowest drawn height in the loop.
+        let peak = &by_id(&tags, "peak-load").1;
+        let s_peak: f64 = peak["data-s-m"].parse().unwrap();
+        let (l0, l1) = d.best.path.loop_span_m;
+        let at_bottom = (s_peak - l0).abs() < 0.06 || (s_peak - l1).abs() < 0.06;
+        assert!(at_bottom, "peak at s = {s_peak}, loop {l0}..{l1}");
+    }
 }
