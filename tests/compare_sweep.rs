@@ -256,8 +256,11 @@ fn sweep_is_deterministic_across_thread_counts_and_shards_merge_to_the_whole() {
         .unwrap();
     let rows = pool.install(|| sweep::run(&spec, None, &|| {}));
     let svg = overlay::sweep_summary_svg(&rows, "study", spec.base_brief.objective);
+    // No lossless circle meets 4.5 g (6 + n_top): that curve is not drawn, so not in the legend.
     assert!(
-        svg.contains("clothoid, max 6.50 g") && svg.contains("circle, max 4.50 g"),
+        svg.contains("clothoid, max 6.50 g")
+            && svg.contains("circle, max 6.50 g")
+            && !svg.contains("circle, max 4.50 g"),
         "legend"
     );
     assert!(svg.contains("CAUTION"));
