@@ -1,5 +1,6 @@
 //! Numerical building blocks shared by the stages: Gauss–Legendre rules, cubic polynomials in
-//! Horner form, the tridiagonal (Thomas) solve and the cubic splines built on it.
+//! Horner form, the tridiagonal (Thomas) solve, the cubic splines built on it and monotone
+//! (PCHIP) interpolation.
 //!
 //! It sits below every stage and imports nothing from the crate, so `shape` and `geometry` can
 //! both use it. The operation order of each routine is part of its contract: the outputs of the
@@ -124,6 +125,58 @@ pub fn natural_spline(t: &[f64], y: &[f64]) -> Vec<[f64; 4]> {
     let sup: Vec<f64> = inner.map(|i| h[i]).collect();
     m[1..n - 1].copy_from_slice(&solve_tridiagonal(&sub, &diag, &sup, &rhs));
     cubic_pieces(&h, &y[..n], &m)
+}
+
+/// Monotone piecewise-cubic Hermite interpolation (PCHIP) through (t[i], y[i]): Fritsch &
+/// Carlson, "Monotone piecewise cubic interpolation", SIAM J. Numer. Anal. 17 (1980) 238–246,
+/// with the knot slopes of scipy's `PchipInterpolator` (a weighted harmonic mean of the
+/// neighbouring secants, zero where they change sign or either is zero; one-sided three-point
+/// slopes at the ends, limited to keep the shape). Between two knots the curve stays within their
+/// values, so it never overshoots the data. `t` strictly increasing; fewer than two knots give no
+/// pieces, two give the straight line.
+pub fn pchip(t: &[f64], y: &[f64]) -> Vec<[f64; 4]> {
+    let n = t.len().min(y.len());
+    if n < 2 {
+        return Vec::new();
+    }
+    let h: Vec<f64> = (0..n - 1).map(|i| t[i + 1] - t[i]).collect();
+    let delta: Vec<f64> = (0..n - 1).map(|i| (y[i + 1] - y[i]) / h[i]).collect();
+    let mut d = vec![0.0; n];
+    if n == 2 {
+        d = vec![delta[0]; 2];
+    } else {
+        for k in 1..n - 1 {
+            let (a, b) = (delta[k - 1], delta[k]);
+            if a * b > 0.0 {
+                let w1 = 2.0 * h[k] + h[k - 1];
+                let w2 = h[k] + 2.0 * h[k - 1];
+                d[k] = (w1 + w2) / (w1 / a + w2 / b);
+            }
+        }
+        d[0] = pchip_end_slope(h[0], h[1], delta[0], delta[1]);
+        d[n - 1] = pchip_end_slope(h[n - 2], h[n - 3], delta[n - 2], delta[n - 3]);
+    }
+    (0..n - 1)
+        .map(|i| {
+            let c2 = (3.0 * delta[i] - 2.0 * d[i] - d[i + 1]) / h[i];
+            let c3 = (d[i] + d[i + 1] - 2.0 * delta[i]) / (h[i] * h[i]);
+            [y[i], d[i], c2, c3]
+        })
+        .collect()
+}
+
+/// PCHIP's slope at an end knot from the end interval (`h0`, `d0`) and its neighbour (`h1`, `d1`):
+/// the three-point formula, zeroed if it opposes the end secant and capped at three times the
+/// secant where the data turn (Fritsch & Carlson's region of monotonicity; as scipy does).
+fn pchip_end_slope(h0: f64, h1: f64, d0: f64, d1: f64) -> f64 {
+    let d = ((2.0 * h0 + h1) * d0 - h0 * d1) / (h0 + h1);
+    if d.signum() != d0.signum() || d0 == 0.0 {
+        0.0
+    } else if d0.signum() != d1.signum() && d.abs() > 3.0 * d0.abs() {
+        3.0 * d0
+    } else {
+        d
+    }
 }
 
 /// A piecewise cubic y(t): knots and one cubic piece per interval, in (t − tᵢ).

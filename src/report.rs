@@ -300,7 +300,8 @@ pub fn infeasible_message(e: &Infeasible) -> String {
 
 /// The side-by-side table for a terminal: one column per family.
 pub fn compare_table(c: &Comparison) -> String {
-    let figures: Vec<Result<KeyFigures, String>> = c.entries.iter().map(Entry::figures).collect();
+    use crate::checks::limits::LimitKind;
+    let figures: Vec<Option<KeyFigures>> = c.entries.iter().map(Entry::shown_figures).collect();
     let mut out = format!("loopwright compare: {}\n", c.brief.title);
     out.push_str(&format!("  {:<30}", ""));
     for e in &c.entries {
@@ -308,50 +309,83 @@ pub fn compare_table(c: &Comparison) -> String {
     }
     out.push('\n');
     type Cell = fn(&KeyFigures) -> String;
-    let rows: [(&str, Cell); 9] = [
-        ("loop height (heartline), m", |f| {
-            format!("{:.2}", f.loop_height_m)
-        }),
-        ("path length in loop, m", |f| {
+    // Each row with the limit that bounds its figure, if any: a failing family's value is marked.
+    let rows: [(&str, Option<LimitKind>, Cell); 9] = [
+        (
+            "loop height (heartline), m",
+            Some(LimitKind::MaxHeight),
+            |f| format!("{:.2}", f.loop_height_m),
+        ),
+        ("path length in loop, m", None, |f| {
             format!("{:.2}", f.path_length_m)
         }),
-        ("top radius, m", |f| format!("{:.2}", f.top_radius_m)),
-        ("peak normal load, g", |f| format!("{:.3}", f.peak_normal_g)),
-        ("normal load at the top, g", |f| {
+        ("top radius, m", None, |f| format!("{:.2}", f.top_radius_m)),
+        ("peak normal load, g", Some(LimitKind::MaxG), |f| {
+            format!("{:.3}", f.peak_normal_g)
+        }),
+        ("normal load at the top, g", Some(LimitKind::MinTopG), |f| {
             format!("{:.3}", f.top_normal_g)
         }),
-        ("speed at the top, m/s", |f| {
+        ("speed at the top, m/s", None, |f| {
             format!("{:.2}", f.top_speed_m_s)
         }),
-        ("peak onset (smooth track), g/s", |f| {
-            format!("{:.2}", f.peak_onset_g_s)
+        (
+            "peak onset (smooth track), g/s",
+            Some(LimitKind::MaxOnset),
+            |f| format!("{:.2}", f.peak_onset_g_s),
+        ),
+        (
+            "load step (unbounded onset), g",
+            Some(LimitKind::MaxOnset),
+            |f| {
+                if f.onset_unbounded() {
+                    format!("{:.3}", f.max_load_step_g)
+                } else {
+                    "none".into()
+                }
+            },
+        ),
+        ("time in loop, s", None, |f| {
+            format!("{:.2}", f.time_in_loop_s)
         }),
-        ("load step (unbounded onset), g", |f| {
-            if f.onset_unbounded() {
-                format!("{:.3}", f.max_load_step_g)
-            } else {
-                "none".into()
-            }
-        }),
-        ("time in loop, s", |f| format!("{:.2}", f.time_in_loop_s)),
     ];
-    for (label, cell) in rows {
+    for (label, limit, cell) in rows {
         out.push_str(&format!("  {label:<30}"));
-        for f in &figures {
-            let text = f.as_ref().map_or_else(|_| "-".to_string(), cell);
+        for (e, f) in c.entries.iter().zip(&figures) {
+            let mark = limit.is_some_and(|l| e.fails(l));
+            let text = f.as_ref().map_or_else(
+                || "-".to_string(),
+                |f| format!("{}{}", cell(f), if mark { " FAIL" } else { "" }),
+            );
             out.push_str(&format!(" {text:>14}"));
         }
         out.push('\n');
     }
     out.push_str(&format!("  {:<30}", "feasible"));
-    for f in &figures {
-        out.push_str(&format!(" {:>14}", if f.is_ok() { "yes" } else { "NO" }));
+    for e in &c.entries {
+        out.push_str(&format!(
+            " {:>14}",
+            if e.result.is_ok() { "yes" } else { "NO" }
+        ));
     }
     out.push('\n');
-    for (e, f) in c.entries.iter().zip(&figures) {
-        if let Err(why) = f {
-            out.push_str(&format!("  {}: {why}\n", e.kind));
+    for e in &c.entries {
+        let Err(why) = &e.result else { continue };
+        if let Some(shown) = &e.failing {
+            let failed: Vec<&str> = shown.fails.iter().map(|l| l.field()).collect();
+            out.push_str(&format!(
+                "  {}: figures of the loop at the {} (top radius {:.2} m); it fails {} (marked FAIL)\n",
+                e.kind,
+                shown.sized,
+                shown.assessment.best.top_radius_m,
+                if failed.is_empty() {
+                    "the checks at the verification spacing or the limit table".to_string()
+                } else {
+                    failed.join(", ")
+                }
+            ));
         }
+        out.push_str(&format!("  {}: {why}\n", e.kind));
     }
     out.push_str(CAUTION);
     out.push('\n');

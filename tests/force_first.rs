@@ -85,8 +85,8 @@ fn constant_load_gives_the_constant_normal_force_track() {
 /// A shaped target with losses: the loads the dynamics stage computes on the solved loop (its own
 /// geometry integration and energy-with-losses model, shared with every other family) must be the
 /// target at each station's pitch, away from the transitions. The target itself is cross-checked
-/// against scipy's natural cubic spline (CubicSpline, bc_type="natural", PyPI) through the mirrored
-/// control points.
+/// against scipy's PchipInterpolator (PyPI; Fritsch & Carlson 1980) through the mirrored control
+/// points.
 #[test]
 fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     let mut b = profile_brief(
@@ -137,12 +137,18 @@ fn shaped_target_with_losses_is_reproduced_by_the_dynamics() {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join("grid.txt");
     std::fs::write(&f, grid).unwrap();
+    // The target is monotone (PCHIP) interpolation: scipy's PchipInterpolator (knots in rad).
+    let knots: Vec<String> = [0., 40., 90., 140., 180., 220., 270., 320., 360.]
+        .iter()
+        .map(|d: &f64| format!("{:.17e}", d.to_radians()))
+        .collect();
     let out = common::python(
-        "natural_spline_check.py",
+        "pchip_check.py",
         &[&f],
         &[
-            "0,40,90,140,180,220,270,320,360",
+            &knots.join(","),
             "3.6,3.8,2.4,0.9,0.4,0.9,2.4,3.8,3.6",
+            "1e-9",
         ],
     );
     assert!(out.contains("worst"), "{out}");

@@ -174,7 +174,7 @@ fn compare_and_sweep_enforce_the_limit_table() {
     ];
     sw.extend_from_slice(&common);
     assert_eq!(run(&sw), EXIT_OK);
-    let text = std::fs::read_to_string(out.join("copperwing-sweep.csv")).unwrap();
+    let text = std::fs::read_to_string(out.join("loop-sweep.csv")).unwrap();
     let rows: Vec<&str> = text.lines().skip(1).collect();
     assert_eq!(rows.len(), 2);
     for r in rows {
@@ -184,7 +184,7 @@ fn compare_and_sweep_enforce_the_limit_table() {
     let mut free = vec!["sweep", "--entry-speed", "24..25:2", "--shape", "clothoid"];
     free.extend_from_slice(&common);
     assert_eq!(run(&free), EXIT_OK);
-    let text = std::fs::read_to_string(out.join("copperwing-sweep.csv")).unwrap();
+    let text = std::fs::read_to_string(out.join("loop-sweep.csv")).unwrap();
     assert!(!text.contains("acceleration envelope"));
 }
 

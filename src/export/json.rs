@@ -62,6 +62,12 @@ pub struct Report<'a> {
     pub per_car: &'a [CarSummary],
     /// The duration-based envelope check, level by level, with `enforced` (null if not assessed).
     pub envelope: Option<&'a EnvelopeReport>,
+    /// What `<name>-loads.csv` holds: one row per heartline station of the front car (of the only
+    /// car, for one car).
+    pub loads_csv_rows: &'static str,
+    /// The per-car table written beside it (`<name>-cars.csv`, every car at every station) for a
+    /// train of two or more cars; null for one car.
+    pub cars_csv: Option<String>,
     /// For a centreline read from a drawing (`check`): the file, what was read and the fit.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub drawing: Option<DrawingReport<'a>>,
@@ -123,6 +129,8 @@ pub fn report(d: &Assessment) -> Report<'_> {
         car_pitch_m: d.brief.car_pitch_m,
         per_car: &d.verification.cars,
         envelope: d.verification.envelope.as_ref(),
+        loads_csv_rows: "front car, one row per heartline station",
+        cars_csv: (d.best.train.cars.len() > 1).then(|| format!("{}-cars.csv", d.brief.name)),
         drawing: match &d.best.origin {
             Origin::Drawing { file, source, fit } => Some(DrawingReport {
                 file,

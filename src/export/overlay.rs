@@ -9,11 +9,12 @@
 use svg::node::element::Group;
 
 use super::chart::{
-    Frame, Look, Ticks, bare_text, caution_block, colour, dot, legend, midpoint_step, page,
-    sheet_font, wrap,
+    Frame, Look, Ticks, bare_text, caution_block, colour, dot, fitting_font_px, legend,
+    midpoint_step, page, sheet_font, wrap,
 };
 use crate::brief::{Objective, ShapeKind};
 use crate::compare::Comparison;
+use crate::model::Assessment;
 use crate::sweep::SweepRow;
 
 /// Sheet size, px.
@@ -86,7 +87,14 @@ fn legend_with_notes(items: &[LegendItem], notes: &[String]) -> Group {
 /// A sheet with a title, the caution at the foot and the given content.
 fn sheet(title: &str, subtitle: &str, content: Vec<Group>) -> String {
     let mut doc = page(WIDTH, HEIGHT, None)
-        .add(sheet_font(bare_text(MARGIN.0, 24.0, title), 16.0).set("font-weight", "bold"))
+        .add(
+            sheet_font(
+                bare_text(MARGIN.0, 24.0, title),
+                fitting_font_px(title, 16.0, WIDTH - MARGIN.0 - 10.0, true),
+            )
+            .set("font-weight", "bold")
+            .set("id", "sheet-title"),
+        )
         .add(sheet_font(bare_text(MARGIN.0, 42.0, subtitle), 12.0));
     for c in content {
         doc = doc.add(c);
@@ -97,31 +105,53 @@ fn sheet(title: &str, subtitle: &str, content: Vec<Group>) -> String {
     s
 }
 
+/// A note per infeasible family: drawn dashed at its binding limit with the limits it fails, or
+/// not drawn when no size meets even that limit.
 fn infeasible_notes(c: &Comparison) -> Vec<String> {
     c.entries
         .iter()
         .filter(|e| e.result.is_err())
-        .map(|e| {
-            format!(
-                "{}: infeasible, not drawn (reason in the compare table)",
+        .map(|e| match &e.failing {
+            Some(shown) => {
+                let failed: Vec<&str> = shown.fails.iter().map(|l| l.field()).collect();
+                format!(
+                    "{}: FAILING, drawn dashed at the {}; fails {} (reason in the compare table)",
+                    e.kind,
+                    shown.sized,
+                    if failed.is_empty() {
+                        "the limit table".to_string()
+                    } else {
+                        failed.join(", ")
+                    }
+                )
+            }
+            None => format!(
+                "{}: infeasible at every size, not drawn (reason in the compare table)",
                 e.kind
-            )
+            ),
         })
         .collect()
+}
+
+/// The loop an overlay draws for each family (its design, or its failing loop), with whether it
+/// fails.
+fn shown_loops(c: &Comparison) -> impl Iterator<Item = (ShapeKind, &Assessment, bool)> {
+    c.entries
+        .iter()
+        .filter_map(|e| e.shown().map(|d| (e.kind, d, e.result.is_err())))
 }
 
 /// Every family's heartline elevation on one sheet, one scale on both axes, origin at loop entry.
 pub fn elevation_overlay_svg(c: &Comparison) -> String {
     let mut curves = Vec::new();
-    for e in &c.entries {
-        let Ok(d) = &e.result else { continue };
+    for (kind, d, failing) in shown_loops(c) {
         let st = &d.best.path.stations;
         let entry = st.iter().find(|s| s.in_loop).unwrap_or(&st[0]).heartline_m;
         let pts: Vec<(f64, f64)> = st
             .iter()
             .map(|s| (s.heartline_m.x - entry.x, s.heartline_m.z - entry.z))
             .collect();
-        curves.push((e.kind, d.best.summary.loop_height_m, pts));
+        curves.push((kind, d.best.summary.loop_height_m, failing, pts));
     }
     let (xr, zr) = enclose(((0.0, 0.0), (0.0, 0.0)), &curves);
     let frame = sheet_frame(xr, zr, true);
@@ -149,18 +179,23 @@ pub fn elevation_overlay_svg(c: &Comparison) -> String {
     )
 }
 
-/// A family's curve for an overlay: the family, the figure its legend quotes, and the points.
-type FamilyCurve = (ShapeKind, f64, Vec<(f64, f64)>);
+/// A family's curve for an overlay: the family, the figure its legend quotes, whether it fails the
+/// brief (drawn dashed, labelled failing), and the points.
+type FamilyCurve = (ShapeKind, f64, bool, Vec<(f64, f64)>);
+
+/// Dash pattern of a failing family's curve.
+const FAILING_DASH: &str = "7 4";
 
 /// The x and y ranges `start` grown to take in every point of every curve, in order.
 fn enclose(start: ((f64, f64), (f64, f64)), curves: &[FamilyCurve]) -> ((f64, f64), (f64, f64)) {
-    let points = curves.iter().flat_map(|c| &c.2);
+    let points = curves.iter().flat_map(|c| &c.3);
     points.fold(start, |(xr, yr), &(x, y)| {
         ((xr.0.min(x), xr.1.max(x)), (yr.0.min(y), yr.1.max(y)))
     })
 }
 
-/// One solid curve per family in its colour, and the legend entries labelled by `label(kind, figure)`.
+/// One curve per family in its colour (dashed and labelled "FAILING" when the family fails the
+/// brief), and the legend entries labelled by `label(kind, figure)`.
 fn family_curves(
     frame: &Frame,
     curves: &[FamilyCurve],
@@ -168,14 +203,28 @@ fn family_curves(
 ) -> (Group, Vec<LegendItem>) {
     let mut plot = Group::new();
     let mut items = Vec::new();
-    for (kind, figure, pts) in curves {
-        plot = plot.add(frame.path(
-            pts.iter().map(|p| Some(*p)),
-            family_colour(*kind),
-            "none",
-            2.0,
-        ));
-        items.push((label(*kind, *figure), family_colour(*kind), None));
+    for (kind, figure, failing, pts) in curves {
+        let dash = if *failing { FAILING_DASH } else { "none" };
+        plot = plot.add(
+            frame
+                .path(
+                    pts.iter().map(|p| Some(*p)),
+                    family_colour(*kind),
+                    dash,
+                    2.0,
+                )
+                .set("class", if *failing { "failing" } else { "feasible" }),
+        );
+        let text = label(*kind, *figure);
+        if *failing {
+            items.push((
+                text.replacen(':', " FAILS:", 1),
+                family_colour(*kind),
+                Some(FAILING_DASH),
+            ));
+        } else {
+            items.push((text, family_colour(*kind), None));
+        }
     }
     (plot, items)
 }
@@ -184,8 +233,7 @@ fn family_curves(
 pub fn loads_overlay_svg(c: &Comparison) -> String {
     let b = &c.brief;
     let mut curves = Vec::new();
-    for e in &c.entries {
-        let Ok(d) = &e.result else { continue };
+    for (kind, d, failing) in shown_loops(c) {
         let s0 = d.best.path.loop_span_m.0;
         let pts: Vec<(f64, f64)> = d
             .best
@@ -194,7 +242,7 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
             .iter()
             .map(|p| (p.s_m - s0, p.normal_g))
             .collect();
-        curves.push((e.kind, d.best.summary.peak_normal_g, pts));
+        curves.push((kind, d.best.summary.peak_normal_g, failing, pts));
     }
     let (sr, gr) = enclose(((0.0, 1.0), (b.min_top_g.min(0.0), b.max_g)), &curves);
     let frame = sheet_frame(sr, gr, false);
@@ -209,16 +257,41 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
             1.5,
         )
     };
-    plot = plot
-        .add(limit(b.max_g, "8 4"))
-        .add(limit(b.min_top_g, "2 3"));
+    // The top-load limit bounds the load while the rider is inverted (pitch past 90°): drawn over
+    // the part of the arc length where any family drawn is inverted.
+    let inverted = shown_loops(c)
+        .flat_map(|(_, d, _)| {
+            let s0 = d.best.path.loop_span_m.0;
+            d.best
+                .path
+                .stations
+                .iter()
+                .filter(|st| st.pitch_rad.cos() < 0.0)
+                .map(move |st| st.s_m - s0)
+        })
+        .fold(None, |acc: Option<(f64, f64)>, s| {
+            Some(acc.map_or((s, s), |(a, b)| (a.min(s), b.max(s))))
+        });
+    plot = plot.add(limit(b.max_g, "8 4"));
+    if let Some((a, e)) = inverted {
+        plot = plot.add(
+            frame
+                .path(
+                    [Some((a, b.min_top_g)), Some((e, b.min_top_g))],
+                    colour::SHEET_LIMIT,
+                    "2 3",
+                    1.5,
+                )
+                .set("id", "limit-min-top"),
+        );
+    }
     items.push((
         format!("max_g {:.2} g", b.max_g),
         colour::SHEET_LIMIT,
         Some("8 4"),
     ));
     items.push((
-        format!("min_top_g {:.2} g (at top)", b.min_top_g),
+        format!("min_top_g {:.2} g (inverted)", b.min_top_g),
         colour::SHEET_LIMIT,
         Some("2 3"),
     ));
@@ -286,12 +359,19 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
     let mut plot = Group::new();
     let mut items = Vec::new();
     let many_tops = keys.iter().any(|k| k.2 != keys[0].2);
+    let mut not_drawn = Vec::new();
     for (i, key) in keys.iter().enumerate() {
         let mut pts: Vec<&SweepRow> = rows
             .iter()
             .filter(|r| (r.point.kind, r.point.max_g, r.point.min_top_g) == *key)
             .collect();
         pts.sort_by(|a, b| a.point.entry_speed_m_s.total_cmp(&b.point.entry_speed_m_s));
+        // A curve with no feasible point is not drawn, so it gets no legend entry either (the
+        // note counts the infeasible designs).
+        if pts.iter().all(|r| value(r).is_none()) {
+            not_drawn.push(format!("{} at {:.2} g", key.0, key.1));
+            continue;
+        }
         let colour = family_colour(key.0);
         let g_index = max_gs.iter().position(|g| *g == key.1).unwrap_or(0);
         let dash = DASHES[g_index % DASHES.len()];
@@ -337,6 +417,12 @@ pub fn sweep_summary_svg(rows: &[SweepRow], title: &str, objective: Objective) -
         "{feasible} of {} designs feasible; gaps are infeasible designs",
         rows.len()
     )];
+    if !not_drawn.is_empty() {
+        notes.push(format!(
+            "not drawn (no feasible design): {}",
+            not_drawn.join(", ")
+        ));
+    }
     if let (false, Some(k)) = (many_tops, keys.first()) {
         notes.push(format!("min_top_g = {:.2} g throughout", k.2));
     }

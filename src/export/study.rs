@@ -10,7 +10,7 @@ use serde::Serialize;
 
 use super::ExportError;
 use crate::brief::Brief;
-use crate::compare::{Comparison, KeyFigures};
+use crate::compare::{Comparison, Entry, KeyFigures};
 use crate::report::CAUTION;
 use crate::sweep::SweepRow;
 
@@ -76,13 +76,15 @@ fn encode_err(what: &'static str) -> impl Fn(csv::Error) -> ExportError {
     }
 }
 
-/// `<name>-compare.csv`: one row per family.
+/// `<name>-compare.csv`: one row per family. An infeasible family's figures are those of its loop
+/// sized at its binding limit (`sized_at`), with the limits it fails there (`fails`, brief field
+/// names separated by `;`) and the reason; empty when no size meets even that limit.
 pub fn compare_csv(c: &Comparison) -> Result<Vec<u8>, ExportError> {
     let enc = encode_err("compare table");
     let mut w = csv::Writer::from_writer(Vec::new());
     let mut header = vec!["shape", "feasible"];
     header.extend(FIGURE_COLUMNS);
-    header.push("reason");
+    header.extend(["sized_at", "fails", "reason"]);
     w.write_record(&header).map_err(&enc)?;
     for e in &c.entries {
         let f = e.figures();
@@ -90,7 +92,13 @@ pub fn compare_csv(c: &Comparison) -> Result<Vec<u8>, ExportError> {
             e.kind.name().to_string(),
             if f.is_ok() { "yes" } else { "no" }.to_string(),
         ];
-        rec.extend(figure_cells(f.as_ref().ok()));
+        rec.extend(figure_cells(e.shown_figures().as_ref()));
+        rec.push(
+            e.failing
+                .as_ref()
+                .map_or(String::new(), |s| s.sized.clone()),
+        );
+        rec.push(fails_of(e).join(";"));
         rec.push(f.err().unwrap_or_default());
         w.write_record(&rec).map_err(&enc)?;
     }
@@ -100,15 +108,27 @@ pub fn compare_csv(c: &Comparison) -> Result<Vec<u8>, ExportError> {
     })
 }
 
+/// The brief fields whose limits a family's shown loop fails (none for a feasible family).
+fn fails_of(e: &Entry) -> Vec<&'static str> {
+    e.failing
+        .as_ref()
+        .map_or_else(Vec::new, |s| s.fails.iter().map(|l| l.field()).collect())
+}
+
 /// One family in the compare JSON.
 #[derive(Debug, Serialize)]
 pub struct CompareJsonEntry {
     pub shape: &'static str,
     pub feasible: bool,
-    /// Key figures of the reported design; null when infeasible.
+    /// Key figures of the reported design; for an infeasible family those of its loop sized at
+    /// its binding limit (see `sized_at`), null if no size meets even that.
     pub figures: Option<KeyFigures>,
-    /// Shape parameters of the reported design (name, value).
+    /// Shape parameters of the loop the figures describe (name, value).
     pub shape_parameters: Vec<(&'static str, f64)>,
+    /// How an infeasible family's loop was sized (e.g. "largest size meeting min_top_g").
+    pub sized_at: Option<String>,
+    /// Brief fields whose limits that loop fails (empty when feasible).
+    pub fails: Vec<&'static str>,
     /// Why no loop of this family meets the brief; null when feasible.
     pub reason: Option<String>,
 }
@@ -126,26 +146,20 @@ pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
     let families = c
         .entries
         .iter()
-        .map(|e| match &e.result {
-            Ok(d) => CompareJsonEntry {
-                shape: e.kind.name(),
-                feasible: true,
-                figures: Some(KeyFigures::of(d)),
-                shape_parameters: d
-                    .shape_labels
+        .map(|e| CompareJsonEntry {
+            shape: e.kind.name(),
+            feasible: e.result.is_ok(),
+            figures: e.shown_figures(),
+            shape_parameters: e.shown().map_or_else(Vec::new, |d| {
+                d.shape_labels
                     .iter()
                     .copied()
                     .zip(d.best.shape().iter().copied())
-                    .collect(),
-                reason: None,
-            },
-            Err(why) => CompareJsonEntry {
-                shape: e.kind.name(),
-                feasible: false,
-                figures: None,
-                shape_parameters: vec![],
-                reason: Some(why.to_string()),
-            },
+                    .collect()
+            }),
+            sized_at: e.failing.as_ref().map(|s| s.sized.clone()),
+            fails: fails_of(e),
+            reason: e.result.as_ref().err().map(|why| why.to_string()),
         })
         .collect();
     let doc = CompareJson {

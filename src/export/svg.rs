@@ -173,29 +173,47 @@ pub fn elevation_svg_many(designs: &[&Assessment]) -> String {
                 &format!("rail height {} m", fmt_num(s.rail_height_m, 2)),
                 colour::RAIL,
             ));
-            // Footprint: loop entry to loop exit along X, heartline.
+            // Footprint: the loop proper's extent along X, heartline (for a circle, whose entry
+            // and exit share one X, its diameter); the entry-to-exit distance is added when it
+            // differs.
             let in_loop: Vec<_> = st.iter().filter(|s| s.in_loop).collect();
-            if let (Some(a), Some(b)) = (in_loop.first(), in_loop.last()) {
-                let label = format!(
-                    "loop footprint (heartline) {} m",
-                    fmt_num(s.footprint_length_m, 2)
-                );
+            let lowest = in_loop
+                .iter()
+                .min_by(|a, b| a.heartline_m.x.total_cmp(&b.heartline_m.x));
+            let highest = in_loop
+                .iter()
+                .max_by(|a, b| a.heartline_m.x.total_cmp(&b.heartline_m.x));
+            if let (Some(a), Some(b)) = (lowest, highest) {
+                let extent_m = b.heartline_m.x - a.heartline_m.x;
+                let mut label = format!("loop footprint (heartline) {} m", fmt_num(extent_m, 2));
+                if (extent_m - s.footprint_length_m).abs() >= 0.005 {
+                    label.push_str(&format!(
+                        "; entry to exit {} m",
+                        fmt_num(s.footprint_length_m, 2)
+                    ));
+                }
                 let (xa, _) = frame.to_px(a.heartline_m.x, 0.0);
                 let (xb, _) = frame.to_px(b.heartline_m.x, 0.0);
                 if (xb - xa).abs() >= 20.0 {
-                    dims = dims.add(horizontal_dim(
-                        &frame,
-                        bottom + 26.0,
-                        (a.heartline_m.x, a.heartline_m.z),
-                        (b.heartline_m.x, b.heartline_m.z),
-                        &label,
-                    ));
+                    dims = dims.add(
+                        horizontal_dim(
+                            &frame,
+                            bottom + 26.0,
+                            (a.heartline_m.x, a.heartline_m.z),
+                            (b.heartline_m.x, b.heartline_m.z),
+                            &label,
+                        )
+                        .set("id", "footprint"),
+                    );
                 } else {
-                    // Entry and exit (nearly) coincide, as in a closed circle: say so in words.
-                    dims = dims.add(text(LEFT_PX, bottom + 40.0, &label, 13.0, "start"));
+                    // A loop too narrow to dimension at this scale: say it in words.
+                    dims = dims.add(
+                        text(LEFT_PX, bottom + 40.0, &label, 13.0, "start").set("id", "footprint"),
+                    );
                 }
                 below = bottom + 56.0;
             }
+            dims = dims.add(marks(&frame, d));
             dims = dims.add(text(
                 LEFT_PX,
                 below + 10.0,
@@ -233,6 +251,78 @@ pub fn elevation_svg_many(designs: &[&Assessment]) -> String {
         .add(legend(Look::Drawing, legend_x, bar_y, &legend_entries))
         .add(caution)
         .to_string()
+}
+
+/// What the elevation marks on the loop itself: the direction of travel (an arrow over the entry
+/// lead), the top radius (from the heartline's top down to its centre of curvature) and the point
+/// of peak normal load (a dot on the heartline with its value).
+fn marks(frame: &Frame, d: &Assessment) -> Group {
+    let st = &d.best.path.stations;
+    let s = &d.best.summary;
+    let mut g = Group::new().set("id", "marks");
+    let (Some(first), Some(entry)) = (st.first(), st.iter().find(|s| s.in_loop)) else {
+        return g;
+    };
+    // Direction of travel: along +X from the start of the lead to the loop entry, 14 px above it.
+    let (x0, y0) = frame.to_px(first.heartline_m.x, first.heartline_m.z);
+    let (x1, _) = frame.to_px(entry.heartline_m.x, entry.heartline_m.z);
+    let (x0, x1) = (x0, x1.max(x0 + 30.0));
+    g = g
+        .add(
+            dim_line(x0, y0 - 14.0, x1, y0 - 14.0, colour::INK, 1.4)
+                .set("marker-end", "url(#arrow)")
+                .set("id", "travel-arrow"),
+        )
+        .add(text(x0, y0 - 20.0, "direction of travel", 11.0, "start"));
+    // Top radius: the top's centre of curvature lies R below it (the track is level there).
+    let top = d.best.path.top();
+    let r = d.best.top_radius_m;
+    if r.is_finite() && r > 0.0 {
+        let (tx, ty) = frame.to_px(top.heartline_m.x, top.heartline_m.z);
+        let (_, cy) = frame.to_px(top.heartline_m.x, top.heartline_m.z - r);
+        g = g
+            .add(
+                dim_line(tx, cy, tx, ty, colour::INK, 1.0)
+                    .set("marker-end", "url(#arrow)")
+                    .set("id", "top-radius"),
+            )
+            .add(crate::export::chart::dot(tx, cy, 2.5, colour::INK))
+            .add(text(
+                tx + 6.0,
+                (cy + ty) / 2.0,
+                &format!("top radius {} m", fmt_num(r, 2)),
+                12.0,
+                "start",
+            ));
+    }
+    // Peak normal load: where the worst car feels it.
+    let peak = st.iter().min_by(|a, b| {
+        (a.s_m - s.peak_normal_s_m)
+            .abs()
+            .total_cmp(&(b.s_m - s.peak_normal_s_m).abs())
+    });
+    if let Some(p) = peak
+        && s.peak_normal_g.is_finite()
+    {
+        let (px_, py_) = frame.to_px(p.heartline_m.x, p.heartline_m.z);
+        g = g
+            .add(
+                crate::export::chart::dot(px_, py_, 4.5, colour::LIMIT)
+                    .set("id", "peak-load")
+                    .set("data-s-m", fmt_num(p.s_m, 2)),
+            )
+            .add(
+                text(
+                    px_ - 8.0,
+                    py_ - 8.0,
+                    &format!("peak {} g", fmt_num(s.peak_normal_g, 2)),
+                    12.0,
+                    "end",
+                )
+                .set("fill", colour::LIMIT),
+            );
+    }
+    g
 }
 
 /// An arrowhead marker, reversed at the start of a line (SVG 2 `auto-start-reverse`).
@@ -355,170 +445,4 @@ fn scale_bar(x: f64, y: f64, scale_px_m: f64, target_m: f64) -> (Group, f64) {
 }
 
 #[cfg(test)]
-pub(crate) mod tests {
-    use super::*;
-    use crate::brief::{Brief, ShapeKind};
-    use crate::optimiser::evaluate;
-    use crate::report::CAUTION;
-    use svg::parser::Event;
-
-    /// A lossless circle of top radius 10 m: geometry gives a heartline loop height of 2R = 20 m
-    /// and a rail height of 2R + 2h (rail h below the heartline at the bottom, h above at the top).
-    pub(crate) fn circle_design(radius_m: f64) -> Assessment {
-        let mut brief = Brief::demo();
-        brief.shape = ShapeKind::Circle;
-        brief.rolling_resistance = 0.0;
-        brief.drag_area_m2 = 0.0;
-        // Closed forms of the planar circle.
-        brief.lateral_shift_m = 0.0;
-        let best =
-            evaluate(&brief, ShapeKind::Circle, &[], radius_m, 0.05).expect("circle evaluates");
-        Assessment {
-            brief,
-            shape_labels: vec![],
-            verification: best.clone(),
-            best,
-            evaluations: 1,
-            search_stopped: None,
-        }
-    }
-
-    /// Every tag with its attributes, plus the text that follows each tag.
-    pub(crate) fn parse(
-        svg: &str,
-    ) -> Vec<(String, std::collections::HashMap<String, String>, String)> {
-        let mut out: Vec<(String, std::collections::HashMap<String, String>, String)> = Vec::new();
-        for ev in svg::read(svg).unwrap() {
-            match ev {
-                Event::Tag(name, _, attrs) => out.push((
-                    name.into(),
-                    attrs
-                        .iter()
-                        .map(|(k, v)| (k.clone(), v.to_string()))
-                        .collect(),
-                    String::new(),
-                )),
-                Event::Text(t) => {
-                    if let Some(last) = out.last_mut() {
-                        last.2.push_str(t);
-                    }
-                }
-                Event::Error(e) => panic!("SVG does not parse: {e}"),
-                _ => {}
-            }
-        }
-        out
-    }
-
-    /// True if `svg` shows the caution's first words (the first wrapped line holds them).
-    pub(crate) fn shows_caution(svg: &str) -> bool {
-        let head: Vec<&str> = CAUTION.split_whitespace().take(5).collect();
-        svg.contains(&head.join(" "))
-    }
-
-    pub(crate) fn by_id<'a>(
-        tags: &'a [(String, std::collections::HashMap<String, String>, String)],
-        id: &str,
-    ) -> &'a (String, std::collections::HashMap<String, String>, String) {
-        tags.iter()
-            .find(|t| t.1.get("id").map(String::as_str) == Some(id))
-            .unwrap_or_else(|| panic!("no #{id}"))
-    }
-
-    pub(crate) fn points(attr: &str) -> Vec<(f64, f64)> {
-        attr.split_whitespace()
-            .map(|p| {
-                let (x, y) = p.split_once(',').unwrap();
-                (x.parse().unwrap(), y.parse().unwrap())
-            })
-            .collect()
-    }
-
-    // Measured as a reader would, with the drawing's own scale bar, the heartline's height is the
-    // closed-form 2R and the rail's 2R + 2h (circle geometry); the same scale horizontally gives
-    // the circle's width 2R + 2h of the rail (its leftmost and rightmost points at mid-height).
-    #[test]
-    fn elevation_measures_true_to_the_scale_bar() {
-        let d = circle_design(10.0);
-        let svg = elevation_svg(&d);
-        assert_eq!(svg.matches("<svg").count(), 1);
-        let tags = parse(&svg);
-        let bar_w: f64 = by_id(&tags, "scale-bar-frame").1["width"].parse().unwrap();
-        let label = by_id(&tags, "scale-bar-label").2.trim().to_string();
-        let bar_m: f64 = label
-            .strip_suffix(" m")
-            .expect("label in metres")
-            .parse()
-            .unwrap();
-        let px_per_m = bar_w / bar_m;
-
-        let heart = points(&by_id(&tags, "heartline-0").1["points"]);
-        let rail = points(&by_id(&tags, "rail-0").1["points"]);
-        let span = |p: &[(f64, f64)], f: fn(&(f64, f64)) -> f64| {
-            let v: Vec<f64> = p.iter().map(f).collect();
-            v.iter().copied().fold(f64::MIN, f64::max) - v.iter().copied().fold(f64::MAX, f64::min)
-        };
-        // Entry is the lowest heartline point (level lead track), so the y span is the height.
-        let tol = 0.02 / px_per_m + 1e-3; // 0.01 px rounding at each end, plus sampling of the arc
-        let h = 1.1;
-        assert!((span(&heart, |p| p.1) / px_per_m - 20.0).abs() < tol);
-        assert!((span(&rail, |p| p.1) / px_per_m - (20.0 + 2.0 * h)).abs() < tol);
-        // Horizontal, same scale: lead track L, the circle (centre above x = L, so x from L − R to
-        // L + R), back to x = L, then L of exit track to 2L.
-        let (lead, r) = (d.brief.lead_length_m, 10.0);
-        let width = (lead + r).max(2.0 * lead) - (lead - r).min(0.0);
-        assert!((span(&heart, |p| p.0) / px_per_m - width).abs() < tol);
-
-        assert!(shows_caution(&svg));
-        assert!(svg.contains(&format!(
-            "loop height (heartline) {:.2} m",
-            d.best.summary.loop_height_m
-        )));
-        assert!(svg.contains(&d.brief.title));
-    }
-
-    // Several designs share one scale and the entry origin: the pixel of world (0, 0) is the
-    // first heartline point of each.
-    #[test]
-    fn many_designs_share_origin_and_scale() {
-        let (a, b) = (circle_design(8.0), circle_design(12.0));
-        let tags = parse(&elevation_svg_many(&[&a, &b]));
-        let first = |id: &str| points(&by_id(&tags, id).1["points"])[0];
-        let (p0, p1) = (first("heartline-0"), first("heartline-1"));
-        assert!(
-            (p0.0 - p1.0).abs() < 0.011 && (p0.1 - p1.1).abs() < 0.011,
-            "{p0:?} {p1:?}"
-        );
-        let h = |id: &str| span_y(&points(&by_id(&tags, id).1["points"]));
-        // Heights in the ratio of the radii (both are 2R).
-        assert!((h("heartline-1") / h("heartline-0") - 1.5).abs() < 1e-3);
-    }
-
-    fn span_y(p: &[(f64, f64)]) -> f64 {
-        let ys = p.iter().map(|p| p.1);
-        ys.clone().fold(f64::MIN, f64::max) - ys.fold(f64::MAX, f64::min)
-    }
-
-    // No panic and still a parseable SVG with the caution for degenerate input.
-    #[test]
-    fn degenerate_designs_still_draw() {
-        let mut d = circle_design(10.0);
-        d.best.path.stations.truncate(1);
-        d.best.ride.points.truncate(1);
-        d.brief.title = "bad\u{1}title <&>".into();
-        for svg in [
-            elevation_svg(&d),
-            elevation_svg_many(&[]),
-            super::super::plot::loads_svg(&d),
-        ] {
-            let tags = parse(&svg);
-            assert!(tags.iter().any(|t| t.0 == "svg"));
-            assert!(svg.contains("CAUTION"));
-        }
-        d.best.path.stations.clear();
-        d.best.ride.points.clear();
-        let _ = parse(&elevation_svg(&d));
-        let _ = parse(&super::super::plot::loads_svg(&d));
-        assert!(super::super::dxf::dxf_bytes(&d).is_err());
-    }
-}
+pub(crate) mod tests;

@@ -1,8 +1,9 @@
 //! The force-first family's target: the normal load a rider should feel along the turn.
 //!
 //! The user gives the normal load n(θ) as a function of the turning angle θ by control points
-//! (angles and loads, mirrored about the top when symmetric), interpolated by a natural cubic
-//! spline ([`TargetLoad`]). The control loads are the family's shape parameters, which the
+//! (angles and loads, mirrored about the top when symmetric), interpolated monotonically by PCHIP
+//! — Fritsch & Carlson 1980, see [`crate::numeric::pchip`] — so the target never overshoots the
+//! control loads ([`TargetLoad`]). The control loads are the family's shape parameters, which the
 //! optimiser may tune ([`LoadProfile`] gives their labels, bounds and the loads as written); the
 //! angles, the symmetry and the transition turn stay as written.
 //!
@@ -32,6 +33,7 @@ use std::f64::consts::PI;
 
 use super::{ShapeError, check_parameters};
 use crate::brief::{MAX_PROFILE_POINTS, PROFILE_LOAD_RANGE_G, ProfileSpec, ShapeKind};
+use crate::numeric::pchip;
 
 /// A brief's target load profile: the control points and how they are used.
 #[derive(Debug, Clone, PartialEq)]
@@ -74,7 +76,7 @@ impl LoadProfile {
     }
 }
 
-/// Natural cubic spline n(θ) through the control points over the whole turn.
+/// Monotone piecewise-cubic (PCHIP) n(θ) through the control points over the whole turn.
 #[derive(Debug, Clone, PartialEq)]
 pub struct TargetLoad {
     knots_rad: Vec<f64>,
@@ -83,7 +85,8 @@ pub struct TargetLoad {
 }
 
 impl TargetLoad {
-    /// Spline through `(angles_rad, loads_g)`; with `symmetric` the points (to π) are mirrored to 2π.
+    /// Monotone (PCHIP) interpolant through `(angles_rad, loads_g)`; with `symmetric` the points
+    /// (to π) are mirrored to 2π.
     pub fn new(angles_rad: &[f64], loads_g: &[f64], symmetric: bool) -> TargetLoad {
         let (mut t, mut y) = (angles_rad.to_vec(), loads_g.to_vec());
         if symmetric {
@@ -92,7 +95,7 @@ impl TargetLoad {
                 y.push(loads_g[i]);
             }
         }
-        let coeffs = natural_spline(&t, &y);
+        let coeffs = pchip(&t, &y);
         TargetLoad {
             knots_rad: t,
             coeffs,
@@ -120,39 +123,6 @@ impl TargetLoad {
     }
 }
 
-/// Natural cubic spline coefficients (zero second derivative at both ends), by the tridiagonal
-/// system for the second derivatives (de Boor, "A Practical Guide to Splines", ch. IV).
-fn natural_spline(t: &[f64], y: &[f64]) -> Vec<[f64; 4]> {
-    let n = t.len();
-    let h: Vec<f64> = (0..n - 1).map(|i| t[i + 1] - t[i]).collect();
-    let mut m = vec![0.0; n];
-    if n > 2 {
-        // Thomas algorithm on rows 1..n−2.
-        let k = n - 2;
-        let (mut diag, mut rhs) = (vec![0.0; k], vec![0.0; k]);
-        for r in 0..k {
-            let i = r + 1;
-            diag[r] = 2.0 * (h[i - 1] + h[i]);
-            rhs[r] = 6.0 * ((y[i + 1] - y[i]) / h[i] - (y[i] - y[i - 1]) / h[i - 1]);
-        }
-        for r in 1..k {
-            let w = h[r] / diag[r - 1];
-            diag[r] -= w * h[r];
-            rhs[r] -= w * rhs[r - 1];
-        }
-        for r in (0..k).rev() {
-            let next = if r + 1 < k { m[r + 2] } else { 0.0 };
-            m[r + 1] = (rhs[r] - h[r + 1] * next) / diag[r];
-        }
-    }
-    (0..n - 1)
-        .map(|i| {
-            let b = (y[i + 1] - y[i]) / h[i] - h[i] * (2.0 * m[i] + m[i + 1]) / 6.0;
-            [y[i], b, m[i] / 2.0, (m[i + 1] - m[i]) / (6.0 * h[i])]
-        })
-        .collect()
-}
-
 const LABELS: [&str; MAX_PROFILE_POINTS] = [
     "normal_g_1",
     "normal_g_2",
@@ -172,30 +142,3 @@ const LABELS: [&str; MAX_PROFILE_POINTS] = [
     "normal_g_16",
 ];
 static BOUNDS: [(f64, f64); MAX_PROFILE_POINTS] = [PROFILE_LOAD_RANGE_G; MAX_PROFILE_POINTS];
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    // Natural cubic spline defining conditions (de Boor, ch. IV): interpolation, C² joins, zero
-    // second derivative at both ends; compared with scipy's CubicSpline(bc_type="natural") in
-    // tests/force_first.rs as well.
-    #[test]
-    fn target_spline_is_natural_and_interpolates() {
-        let t = [0.0, 0.5, 1.7, 3.0, PI];
-        let y = [1.0, 3.0, 2.5, 0.5, 0.4];
-        let c = natural_spline(&t, &y);
-        for i in 0..4 {
-            let h = t[i + 1] - t[i];
-            let ev = |p: [f64; 4], d: f64| p[0] + d * (p[1] + d * (p[2] + d * p[3]));
-            assert!((ev(c[i], 0.0) - y[i]).abs() < 1e-12 && (ev(c[i], h) - y[i + 1]).abs() < 1e-12);
-            if i < 3 {
-                let d2 = |p: [f64; 4], d: f64| 2.0 * p[2] + 6.0 * p[3] * d;
-                assert!((d2(c[i], h) - d2(c[i + 1], 0.0)).abs() < 1e-9);
-            }
-        }
-        assert!(c[0][2].abs() < 1e-15);
-        let h = t[4] - t[3];
-        assert!((2.0 * c[3][2] + 6.0 * c[3][3] * h).abs() < 1e-9);
-    }
-}

@@ -25,7 +25,8 @@ use svg::node::element::{Circle, Definitions, Line, Polyline, Rectangle};
 
 pub use frame::Frame;
 pub use text::{
-    LegendEntry, bare_text, caution_block, clean_text, clip, legend, sheet_font, text, wrap,
+    LegendEntry, bare_text, caution_block, clean_text, clip, fitting_font_px, legend, sheet_font,
+    text, text_width_px, wrap,
 };
 pub use ticks::{
     Nice, Ticks, decimals_for, fmt_num, midpoint_step, nice_number, nice_ticks, short_num,
@@ -82,6 +83,10 @@ pub mod colour {
     pub const SHEET_LIMIT: &str = "#a00";
     /// Sheet look: the caution.
     pub const SHEET_CAUTION: &str = "#a00";
+    /// Loads plot of a train: the middle and rear car's normal load, and the range of every car.
+    pub const CAR_MIDDLE: &str = "#0b8793";
+    pub const CAR_REAR: &str = "#b8860b";
+    pub const CAR_RANGE: &str = "#c9d7ec";
 }
 
 /// Font stack of the drawing look (common sans-serif fonts present on most systems).
