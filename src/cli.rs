@@ -49,6 +49,8 @@ pub enum Command {
     Merge(MergeArgs),
     /// Check a centreline from a DXF or CSV file: fit it, compute the loads and check the limits.
     Check(CheckArgs),
+    /// Assess one loop of a family at given shape parameters and top radius (no search).
+    Evaluate(evaluate::EvaluateArgs),
 }
 
 /// What the points of a checked centreline are.
@@ -169,6 +171,7 @@ pub struct DesignArgs {
     pub quiet: bool,
 }
 
+pub mod evaluate;
 pub mod study;
 pub use study::{CompareArgs, MergeArgs, SweepArgs};
 
@@ -465,6 +468,7 @@ pub fn run(cli: &Cli) -> Result<String, CliError> {
         Command::Sweep(a) => study::run_sweep(a),
         Command::Merge(a) => study::run_merge(a),
         Command::Check(a) => run_check(a),
+        Command::Evaluate(a) => evaluate::run_evaluate(a),
     }
 }
 

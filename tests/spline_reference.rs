@@ -52,7 +52,7 @@ fn natural_spline_matches_scipy() {
 // (shape/spline.rs); L follows from the 2π turn.
 #[test]
 fn spline_family_curvature_matches_scipy() {
-    let shape = [0.3, 0.75, 0.9];
+    let shape = [0.3, 0.75, 0.9, 0.0];
     let r = 9.0;
     let p = family(ShapeKind::Spline)
         .unwrap()
