@@ -108,6 +108,10 @@ pub fn train_and_envelope(d: &Assessment) -> String {
             b.car_pitch_m,
             d.verification.train.train.length_m()
         ));
+        out.push_str(&format!(
+            "  loads table {}-loads.csv: the front car; every car in {}-cars.csv\n",
+            b.name, b.name
+        ));
         let mid = d.verification.train.train.middle();
         for (label, j) in [("front", 0), ("middle", mid), ("rear", cars.len() - 1)] {
             let c = &cars[j];
