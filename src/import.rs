@@ -131,7 +131,7 @@ pub fn read_centreline_as(
         .is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
     if is_dxf {
         let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
-        let c = parse_dxf_bytes(&bytes, layer, &what)?;
+        let c = parse_dxf_bytes(&bytes, layer, wanted, &what)?;
         match (wanted, c.points_are) {
             (Some(w), Some(said)) if w != said => {
                 let (w, said, other) = match w {
@@ -378,10 +378,12 @@ fn finish(
     })
 }
 
-/// The centreline on `layer` of a loaded drawing (or its only curve when no layer is given).
+/// The centreline on `layer` of a loaded drawing; with no layer, its only curve, or in a file of
+/// loopwright's own (rail and heartline layers) the line `wanted`, the rail by default.
 pub fn from_drawing(
     drawing: &Drawing,
     layer: Option<&str>,
+    wanted: Option<PointsAre>,
     what: &str,
 ) -> Result<ImportedCentreline, ImportError> {
     let is_curve = |t: &EntityType| {
@@ -426,7 +428,24 @@ pub fn from_drawing(
                 .filter(|e| e.common.layer.eq_ignore_ascii_case(name))
                 .collect()
         }
-        None => curves.iter().collect(),
+        None => {
+            // loopwright's own DXF holds the rail and the heartline, each on its layer: with no
+            // layer asked, read the line wanted (the rail unless the heartline is asked for), as
+            // a loads CSV gives its columns.
+            let own = match wanted {
+                Some(PointsAre::Heartline) => HEARTLINE_LAYER,
+                _ => RAIL_LAYER,
+            };
+            let on_own: Vec<_> = curves
+                .iter()
+                .filter(|e| e.common.layer.eq_ignore_ascii_case(own))
+                .collect();
+            if curves.len() > 1 && on_own.len() == 1 {
+                on_own
+            } else {
+                curves.iter().collect()
+            }
+        }
     };
     let on = layer.map_or(String::new(), |l| format!(" on layer '{l}'"));
     let e = match chosen.len() {
@@ -615,13 +634,15 @@ fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
     Ok(out)
 }
 
-/// Parse DXF bytes and read the centreline on `layer`.
+/// Parse DXF bytes and read the centreline on `layer` (or, with none, the line `wanted` of a file
+/// of loopwright's own; see [`from_drawing`]).
 ///
 /// The third-party DXF parser is run under `catch_unwind`: a malformed file must give the user a
 /// message, never a crash, whatever the parser does with it (found by fuzzing: see `fuzz/`).
 pub fn parse_dxf_bytes(
     bytes: &[u8],
     layer: Option<&str>,
+    wanted: Option<PointsAre>,
     what: &str,
 ) -> Result<ImportedCentreline, ImportError> {
     // Silence the default panic report for this call only; the user gets our message instead.
@@ -639,5 +660,5 @@ pub fn parse_dxf_bytes(
             ));
         }
     };
-    from_drawing(&drawing, layer, what)
+    from_drawing(&drawing, layer, wanted, what)
 }

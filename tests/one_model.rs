@@ -235,3 +235,62 @@ fn check_refuses_design_only_flags() {
         assert_eq!(run(&["check", p, flag[0], flag[1]]), EXIT_USAGE, "{flag:?}");
     }
 }
+
+/// A design's own DXF checks with the same brief without naming a layer: loopwright's file holds
+/// the rail (LW-RAIL) and the heartline (LW-HEARTLINE), and `check` reads the rail by default and
+/// the heartline with `--points heartline`, each giving the design's height back (the design's
+/// JSON is the reference). A foreign file with several curves still needs `--layer` (exit 2).
+#[test]
+fn own_dxf_checks_without_a_layer() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("d");
+    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/demo-brief.toml");
+    let o = out.to_str().unwrap();
+    assert_eq!(
+        run(&["design", demo, "--spacing", "0.1", "--out", o, "--quiet"]),
+        EXIT_OK
+    );
+    let design = json(&out.join("copperwing.json"));
+    let dxf = out.join("copperwing.dxf");
+    let d = dxf.to_str().unwrap();
+    for (extra, layer) in [
+        (vec![], "LW-RAIL"),
+        (vec!["--points", "heartline"], "LW-HEARTLINE"),
+    ] {
+        let c = dir.path().join("c");
+        let mut args = vec!["check", d, demo, "--out", c.to_str().unwrap(), "--quiet"];
+        args.extend_from_slice(&extra);
+        assert_eq!(run(&args), EXIT_OK, "{extra:?}");
+        let checked = json(&c.join("copperwing-check.json"));
+        assert!(
+            checked["drawing"]["source"]
+                .as_str()
+                .unwrap()
+                .contains(layer)
+        );
+        let (a, b) = (
+            design["loop_height_m"].as_f64().unwrap(),
+            checked["loop_height_m"].as_f64().unwrap(),
+        );
+        assert!((a - b).abs() < 0.01, "{layer}: design {a} m, check {b} m");
+    }
+    // Two curves on layers of another program: the user must choose.
+    let foreign = std::fs::read_to_string(&dxf)
+        .unwrap()
+        .replace("LW-RAIL", "TRACK-A")
+        .replace("LW-HEARTLINE", "TRACK-B");
+    let f = dir.path().join("foreign.dxf");
+    std::fs::write(&f, foreign).unwrap();
+    let c = dir.path().join("f");
+    assert_eq!(
+        run(&[
+            "check",
+            f.to_str().unwrap(),
+            demo,
+            "--out",
+            c.to_str().unwrap(),
+            "--quiet"
+        ]),
+        EXIT_USAGE
+    );
+}

@@ -4,5 +4,5 @@
 use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
-    let _ = loopwright::import::parse_dxf_bytes(data, None, "fuzz.dxf");
+    let _ = loopwright::import::parse_dxf_bytes(data, None, None, "fuzz.dxf");
 });
