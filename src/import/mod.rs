@@ -6,7 +6,8 @@
 //!
 //! Formats, chosen by extension (`.dxf`, otherwise CSV):
 //! - DXF: one POLYLINE (2D or 3D), LWPOLYLINE or SPLINE on the layer chosen with `--layer` (read with
-//!   the `dxf` crate). Without a layer the file must hold exactly one such curve. LWPOLYLINE points
+//!   the `dxf` crate). Without a layer the file must hold exactly one such curve, or be loopwright's
+//!   own (see below). LWPOLYLINE points
 //!   are mapped from their object coordinate system by the DXF "arbitrary axis algorithm"; arc
 //!   bulges are sampled as arcs. SPLINE entities are evaluated from control points, knots and
 //!   weights (de Boor's algorithm), or their fit points are used when they have no control points.
@@ -30,11 +31,14 @@
 //! ```
 
 use dxf::Drawing;
-use dxf::entities::{EntityType, LwPolyline, Spline};
+use dxf::entities::EntityType;
 use nalgebra::Vector3;
 use std::path::{Path, PathBuf};
 
 use crate::geometry::fit::PointsAre;
+
+mod curves;
+use curves::{lwpolyline_points, spline_points};
 
 /// The layer of loopwright's own DXF holding the rail centreline (`export::dxf` writes it; a test
 /// checks the two agree).
@@ -507,131 +511,6 @@ pub fn from_drawing(
         None
     };
     Ok(c)
-}
-
-/// The DXF "arbitrary axis algorithm": the object coordinate system of an extrusion direction.
-fn ocs_axes(n: Vector3<f64>) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
-    let n = if n.norm() > 0.0 {
-        n.normalize()
-    } else {
-        Vector3::z()
-    };
-    let ax = if n.x.abs() < 1.0 / 64.0 && n.y.abs() < 1.0 / 64.0 {
-        Vector3::y().cross(&n)
-    } else {
-        Vector3::z().cross(&n)
-    };
-    let ax = ax.normalize();
-    let ay = n.cross(&ax).normalize();
-    (ax, ay, n)
-}
-
-/// LWPOLYLINE vertices in world coordinates, with bulged spans sampled as circular arcs.
-fn lwpolyline_points(p: &LwPolyline) -> Vec<Vector3<f64>> {
-    let ext = &p.extrusion_direction;
-    let (ax, ay, _) = ocs_axes(Vector3::new(ext.x, ext.y, ext.z));
-    let world = |x: f64, y: f64| ax * x + ay * y;
-    let mut out = Vec::new();
-    let v = &p.vertices;
-    for (i, a) in v.iter().enumerate() {
-        out.push(world(a.x, a.y));
-        let Some(b) = v.get(i + 1) else { break };
-        if a.bulge.abs() > 1e-12 && a.bulge.is_finite() {
-            // Bulge = tan(included angle / 4); the arc's centre lies off the chord midpoint.
-            let angle = 4.0 * a.bulge.atan();
-            let (dx, dy) = (b.x - a.x, b.y - a.y);
-            let chord = dx.hypot(dy);
-            if chord > 0.0 {
-                let r = chord / (2.0 * (angle / 2.0).sin());
-                let mid = (0.5 * (a.x + b.x), 0.5 * (a.y + b.y));
-                let off = r * (angle / 2.0).cos();
-                let (nx, ny) = (-dy / chord, dx / chord);
-                let c = (mid.0 + off * nx, mid.1 + off * ny);
-                let a0 = (a.y - c.1).atan2(a.x - c.0);
-                for k in 1..SAMPLES_PER_SPAN {
-                    let t = a0 + angle * k as f64 / SAMPLES_PER_SPAN as f64;
-                    out.push(world(c.0 + r.abs() * t.cos(), c.1 + r.abs() * t.sin()));
-                }
-            }
-        }
-    }
-    out
-}
-
-/// Points along a SPLINE: its B-spline evaluated densely, or its fit points.
-fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
-    let ctrl = &s.control_points;
-    if ctrl.is_empty() {
-        if s.fit_points.is_empty() {
-            return Err("has neither control points nor fit points".into());
-        }
-        return Ok(s
-            .fit_points
-            .iter()
-            .map(|p| Vector3::new(p.x, p.y, p.z))
-            .collect());
-    }
-    let p = usize::try_from(s.degree_of_curve)
-        .map_err(|_| format!("degree {} is not valid", s.degree_of_curve))?;
-    let knots = &s.knot_values;
-    if p == 0 || p > 10 || knots.len() != ctrl.len() + p + 1 {
-        return Err(format!(
-            "degree {p} with {} control points needs {} knots, found {}",
-            ctrl.len(),
-            ctrl.len() + p + 1,
-            knots.len()
-        ));
-    }
-    if knots.windows(2).any(|w| w[1] < w[0]) || knots.iter().any(|k| !k.is_finite()) {
-        return Err("knots must be finite and non-decreasing".into());
-    }
-    let w: Vec<f64> = if s.weight_values.len() == ctrl.len() {
-        s.weight_values.clone()
-    } else {
-        vec![1.0; ctrl.len()]
-    };
-    if w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
-        return Err("weights must be positive".into());
-    }
-    // Homogeneous control points for rational evaluation.
-    let hom: Vec<[f64; 4]> = ctrl
-        .iter()
-        .zip(&w)
-        .map(|(c, wi)| [c.x * wi, c.y * wi, c.z * wi, *wi])
-        .collect();
-    let (t0, t1) = (knots[p], knots[ctrl.len()]);
-    if t1 <= t0 {
-        return Err("the knot vector spans no parameter range".into());
-    }
-    let spans = ctrl.len() - p;
-    let n = (spans * SAMPLES_PER_SPAN).clamp(2, MAX_POINTS);
-    let mut out = Vec::with_capacity(n + 1);
-    for i in 0..=n {
-        let t = t0 + (t1 - t0) * i as f64 / n as f64;
-        // Knot span k with knots[k] <= t < knots[k+1] (last span closed at t1).
-        let mut k = knots.partition_point(|&x| x <= t).saturating_sub(1);
-        k = k.clamp(p, ctrl.len() - 1);
-        // de Boor's algorithm.
-        let mut d: Vec<[f64; 4]> = (0..=p).map(|j| hom[j + k - p]).collect();
-        for r in 1..=p {
-            for j in (r..=p).rev() {
-                let i0 = j + k - p;
-                let den = knots[i0 + p + 1 - r] - knots[i0];
-                let a = if den > 0.0 {
-                    (t - knots[i0]) / den
-                } else {
-                    0.0
-                };
-                let prev = d[j - 1];
-                for (v, pv) in d[j].iter_mut().zip(prev) {
-                    *v = (1.0 - a) * pv + a * *v;
-                }
-            }
-        }
-        let q = d[p];
-        out.push(Vector3::new(q[0] / q[3], q[1] / q[3], q[2] / q[3]));
-    }
-    Ok(out)
 }
 
 /// Parse DXF bytes and read the centreline on `layer` (or, with none, the line `wanted` of a file
