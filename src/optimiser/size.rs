@@ -39,6 +39,7 @@ pub(crate) fn side_margin(
 }
 
 /// Problem: margin of one side's limits as a function of ln(top radius), for a fixed shape.
+#[derive(Clone, Copy)]
 pub struct SizeMargin<'a> {
     pub brief: &'a Brief,
     pub kind: ShapeKind,
@@ -293,19 +294,7 @@ pub(crate) fn polish_upper(
     }) else {
         return Ok(None);
     };
-    let r = brent_root(
-        SizeMargin {
-            brief,
-            kind,
-            shape,
-            side: Side::Upper,
-            fine: true,
-            counter,
-        },
-        a,
-        b,
-    )?
-    .exp();
+    let r = brent_root(fine, a, b)?.exp();
     // The lower-side limits must hold there too; otherwise let the full search decide and explain.
     let lower = SizeMargin {
         side: Side::Lower,
