@@ -200,17 +200,19 @@ fn seven_car_least_inverted_load_is_below_every_apex_load() {
     assert!(e.summary.min_inverted_normal_g < worst_apex - 1e-3);
 }
 
+/// Run the command line in-process with these arguments; its exit code.
+fn run(args: &[&str]) -> i32 {
+    let mut a = vec!["loopwright"];
+    a.extend_from_slice(args);
+    main_with_args(a)
+}
+
 /// The design's own DXF (rail layer) and loads CSV (heartline columns), checked against the same
 /// brief, pass: the design margin covers the refit.
 #[test]
 fn a_design_passes_the_check_of_its_own_files() {
     let dir = tempfile::tempdir().unwrap();
     let o = dir.path().to_str().unwrap();
-    let run = |args: &[&str]| {
-        let mut a = vec!["loopwright"];
-        a.extend_from_slice(args);
-        main_with_args(a)
-    };
     assert_eq!(run(&["design", "--out", o, "--quiet"]), EXIT_OK);
     let dxf = dir.path().join("copperwing.dxf");
     let csv = dir.path().join("copperwing-loads.csv");
@@ -348,4 +350,106 @@ fn least_inverted_load_falls_as_the_loop_grows() {
         })
         .collect();
     assert!(least.windows(2).all(|w| w[1] < w[0]), "{least:?}");
+}
+
+/// The demo (clothoid) asking for a 20 m loop at the brief's spacing of 0.25 m, with a max g.
+fn height_brief(max_g: f64) -> Brief {
+    let mut b = Brief::demo();
+    b.spacing_m = 0.25;
+    b.max_g = max_g;
+    b.objective = loopwright::brief::Objective::Height { height_m: 20.0 };
+    b
+}
+
+/// A height brief minimises the peak load; the design margin holds on `max_g` too. Its least peak
+/// `p` (found with a loose max g, which the height search does not use: it is the objective) is
+/// refused when `max_g` lies within the margin above it, and accepted a little beyond the margin,
+/// with the verified peak the margin inside the limit (DESIGN_MARGIN, README "Design margin").
+#[test]
+fn a_height_brief_keeps_the_design_margin_on_max_g() {
+    let p = loopwright::design(&height_brief(6.0))
+        .unwrap()
+        .verification
+        .summary
+        .peak_normal_g;
+    let tight = height_brief(p + 0.5 * DESIGN_MARGIN.load_g);
+    match loopwright::design(&tight) {
+        Ok(d) => panic!("accepted at {} g", d.verification.summary.peak_normal_g),
+        Err(why) => assert!(why.to_string().contains("inside the limit"), "{why}"),
+    }
+    let b = height_brief(p + DESIGN_MARGIN.load_g + 2e-3);
+    let d = loopwright::design(&b).unwrap();
+    for e in [&d.best, &d.verification] {
+        assert!(e.summary.peak_normal_g <= b.max_g - DESIGN_MARGIN.load_g + 1e-12);
+    }
+}
+
+/// The force-first demo used as written (tune = false): its loads are fixed by the brief, so its
+/// peak `p` does not depend on `max_g`. With `max_g` between `p` and `p` + margin the loads sit
+/// inside the limit but not by the margin: refused; a little beyond the margin, accepted.
+#[test]
+fn a_profile_used_as_written_keeps_the_design_margin() {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    let text = std::fs::read_to_string(root.join("examples/profile-brief.toml")).unwrap();
+    let mut b = loopwright::brief::BriefInput::from_toml(&text)
+        .unwrap()
+        .resolve()
+        .unwrap();
+    let p = loopwright::design(&b)
+        .unwrap()
+        .verification
+        .summary
+        .peak_normal_g;
+    b.max_g = p + 0.5 * DESIGN_MARGIN.load_g;
+    match loopwright::design(&b) {
+        Ok(d) => panic!("accepted at {} g", d.verification.summary.peak_normal_g),
+        Err(why) => assert!(why.to_string().contains("inside the limit"), "{why}"),
+    }
+    b.max_g = p + DESIGN_MARGIN.load_g + 2e-3;
+    let d = loopwright::design(&b).unwrap();
+    assert!(d.verification.summary.peak_normal_g <= b.max_g - DESIGN_MARGIN.load_g);
+}
+
+/// A height brief's own loads CSV, checked against the same limits, passes (the margin covers
+/// the refit), with max g set just beyond the brief's least peak plus the margin.
+#[test]
+fn a_height_design_passes_the_check_of_its_own_loads() {
+    let p = loopwright::design(&height_brief(6.0))
+        .unwrap()
+        .verification
+        .summary
+        .peak_normal_g;
+    let max_g = format!("{:.4}", p + DESIGN_MARGIN.load_g + 2e-3);
+    let dir = tempfile::tempdir().unwrap();
+    let o = dir.path().to_str().unwrap();
+    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/demo-brief.toml");
+    let design = [
+        "design",
+        demo,
+        "--height",
+        "20",
+        "--max-g",
+        &max_g,
+        "--spacing",
+        "0.25",
+        "--out",
+        o,
+        "--quiet",
+    ];
+    assert_eq!(run(&design), EXIT_OK);
+    let csv = dir.path().join("copperwing-loads.csv");
+    let out = dir.path().join("check");
+    let check = [
+        "check",
+        csv.to_str().unwrap(),
+        demo,
+        "--points",
+        "heartline",
+        "--max-g",
+        &max_g,
+        "--out",
+        out.to_str().unwrap(),
+        "--quiet",
+    ];
+    assert_eq!(run(&check), EXIT_OK);
 }
