@@ -48,7 +48,13 @@ pub(super) struct CarPlace {
 
 /// The path at any arc length: cubic Hermite height (dz/ds = T_z, error O(h⁴)) and linear tangent
 /// and curvature between stations; a straight continuation beyond either end.
-fn place_at(path: &Centreline, s: f64) -> CarPlace {
+///
+/// `cursor` is the car's moving position in the station list: the index of the first station
+/// past the car, as a binary search would find it, moved from where the car was at its previous
+/// place. Cars only move forward (back by an ulp at a curvature step at most), so this costs O(1)
+/// per place instead of O(log stations). `with_curvature` false leaves `kvec` zero (a lossless
+/// ride never reads it).
+fn place_at(path: &Centreline, s: f64, cursor: &mut usize, with_curvature: bool) -> CarPlace {
     let st = &path.stations;
     let (first, last) = (&st[0], &st[st.len() - 1]);
     if s <= first.s_m {
@@ -65,7 +71,16 @@ fn place_at(path: &Centreline, s: f64) -> CarPlace {
             kvec: Vector3::zeros(),
         };
     }
-    let hi = st.partition_point(|p| p.s_m <= s).min(st.len() - 1);
+    // The partition point of `s_m <= s` over the (non-decreasing) station arc lengths.
+    let mut hi = (*cursor).min(st.len());
+    while hi > 0 && st[hi - 1].s_m > s {
+        hi -= 1;
+    }
+    while hi < st.len() && st[hi].s_m <= s {
+        hi += 1;
+    }
+    *cursor = hi;
+    let hi = hi.min(st.len() - 1);
     let (a, b) = (&st[hi - 1], &st[hi]);
     let h = b.s_m - a.s_m;
     if h <= 0.0 {
@@ -82,10 +97,15 @@ fn place_at(path: &Centreline, s: f64) -> CarPlace {
         + (-2.0 * t3 + 3.0 * t2) * b.heartline_m.z
         + (t3 - t2) * h * b.tangent.z;
     let tangent = (a.tangent * (1.0 - t) + b.tangent * t).normalize();
+    let kvec = if with_curvature {
+        a.curvature_vec_1_m * (1.0 - t) + b.curvature_vec_1_m * t
+    } else {
+        Vector3::zeros()
+    };
     CarPlace {
         z_m: z,
         tangent,
-        kvec: a.curvature_vec_1_m * (1.0 - t) + b.curvature_vec_1_m * t,
+        kvec,
     }
 }
 
@@ -123,14 +143,62 @@ pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entr
     keyed.into_iter().map(|(_, e)| e).collect()
 }
 
-/// The buffer [`places`] fills for `cars` cars: empty for a lone car, which is read off its station.
-pub(super) fn place_buffer(cars: usize) -> Vec<CarPlace> {
-    let unset = CarPlace {
-        z_m: 0.0,
-        tangent: Vector3::zeros(),
-        kvec: Vector3::zeros(),
-    };
-    vec![unset; if cars > 1 { cars } else { 0 }]
+/// Where every car of a train is, as the schedule runs: one slot and one moving position per
+/// car. Empty for a lone car, which is read off its station.
+pub(super) struct Tracker {
+    buf: Vec<CarPlace>,
+    cursors: Vec<usize>,
+    with_curvature: bool,
+}
+
+impl Tracker {
+    /// For `cars` cars; `with_curvature` whether the curvature vectors are needed (losses).
+    pub(super) fn new(cars: usize, with_curvature: bool) -> Tracker {
+        let unset = CarPlace {
+            z_m: 0.0,
+            tangent: Vector3::zeros(),
+            kvec: Vector3::zeros(),
+        };
+        let n = if cars > 1 { cars } else { 0 };
+        Tracker {
+            buf: vec![unset; n],
+            cursors: vec![0; n],
+            with_curvature,
+        }
+    }
+
+    /// Every car's place at `entry` (front car first); the car the entry names is exactly on its
+    /// station.
+    pub(super) fn places<'a>(
+        &'a mut self,
+        path: &'a Centreline,
+        entry: &Entry,
+        pitch_m: f64,
+    ) -> Places<'a> {
+        let st = &path.stations[entry.station];
+        if self.buf.is_empty() {
+            return Places::Lone(st);
+        }
+        let with_curvature = self.with_curvature;
+        for (k, (slot, cursor)) in self.buf.iter_mut().zip(&mut self.cursors).enumerate() {
+            *slot = if k == entry.car {
+                *cursor = entry.station + 1;
+                CarPlace {
+                    z_m: st.heartline_m.z,
+                    tangent: st.tangent,
+                    kvec: st.curvature_vec_1_m,
+                }
+            } else {
+                place_at(
+                    path,
+                    entry.s_lead_m - k as f64 * pitch_m,
+                    cursor,
+                    with_curvature,
+                )
+            };
+        }
+        Places::Train(&self.buf)
+    }
 }
 
 /// Where the cars are at one entry of the schedule.
@@ -139,30 +207,4 @@ pub(super) enum Places<'a> {
     Lone(&'a Station),
     /// Every car's place, front car first.
     Train(&'a [CarPlace]),
-}
-
-/// Every car's place at `entry` (written into `buf`, one slot per car, for a train); the car the
-/// entry names is exactly on its station.
-pub(super) fn places<'a>(
-    path: &'a Centreline,
-    entry: &Entry,
-    pitch_m: f64,
-    buf: &'a mut [CarPlace],
-) -> Places<'a> {
-    let st = &path.stations[entry.station];
-    if buf.is_empty() {
-        return Places::Lone(st);
-    }
-    for (k, slot) in buf.iter_mut().enumerate() {
-        *slot = if k == entry.car {
-            CarPlace {
-                z_m: st.heartline_m.z,
-                tangent: st.tangent,
-                kvec: st.curvature_vec_1_m,
-            }
-        } else {
-            place_at(path, entry.s_lead_m - k as f64 * pitch_m)
-        };
-    }
-    Places::Train(buf)
 }
