@@ -187,12 +187,5 @@ fn sweeps(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(
-    benches,
-    designs,
-    whole_process,
-    trains,
-    train_40,
-    sweeps
-);
+criterion_group!(benches, designs, whole_process, trains, train_40, sweeps);
 criterion_main!(benches);

@@ -121,6 +121,17 @@ pub(super) struct Entry {
 /// gives the stations themselves, in order, with `s_lead_m` their own arc length.
 pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entry> {
     let st = &path.stations;
+    if cars == 1 {
+        // One car's running maximum never decreases, so the stable sort below keeps the stations
+        // in order: skip the keys and the sort (the point mass runs hundreds of times per design).
+        return (st.iter().enumerate())
+            .map(|(station, s)| Entry {
+                s_lead_m: s.s_m,
+                car: 0,
+                station,
+            })
+            .collect();
+    }
     // Sorted by a running maximum of the position, so that each car keeps its stations in path
     // order even where rounding makes the two stations at a curvature step differ by an ulp.
     let mut keyed: Vec<(f64, Entry)> = Vec::with_capacity(st.len() * cars);
