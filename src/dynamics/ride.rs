@@ -67,20 +67,19 @@ fn integrate(path: &Centreline, cond: &Conditions, train: &Train) -> Result<Moti
         };
         law.rate(u, contact)
     };
-    let mut cars_at = Tracker::new(cars, rolling);
+    let mut cars_at = Tracker::new(path, cars, rolling);
     let mut u = vec![0.0; m];
     let mut rate = vec![0.0; m];
     let mut tzbar = vec![0.0; m];
     let mut losses = 0.0;
-    let at = cars_at.places(path, &entries[0], pitch_m);
-    let z0 = mean(&at, |z, _, _| z);
-    tzbar[0] = mean(&at, |_, t, _| t.z);
+    let z0;
+    (z0, tzbar[0]) = cars_at.advance(path, &entries[0], pitch_m);
     u[0] = v0sq;
-    rate[0] = loss_rate(v0sq, &at);
+    rate[0] = loss_rate(v0sq, &cars_at.places(path, &entries[0]));
     for e in 1..m {
-        let at = cars_at.places(path, &entries[e], pitch_m);
-        let zbar = mean(&at, |z, _, _| z);
-        tzbar[e] = mean(&at, |_, t, _| t.z);
+        let zbar;
+        (zbar, tzbar[e]) = cars_at.advance(path, &entries[e], pitch_m);
+        let at = cars_at.places(path, &entries[e]);
         let ds = entries[e].s_lead_m - entries[e - 1].s_lead_m;
         let u_free = v0sq - 2.0 * G * (zbar - z0);
         // Heun: predict with the rate at e−1, correct with the mean of both ends.
