@@ -8,6 +8,9 @@
 //! - `train/*`: the clothoid design of that brief with 1 and 12 cars (the table's ratio);
 //! - `sweep/*`: 1000 clothoid designs and 1000 spline designs (10 × 10 × 10 grids of entry speed,
 //!   peak and top limits on the demo brief, both cores);
+//! - `kernel/*`: one evaluation of a clothoid loop at the search's coarse sampling (16 stations per
+//!   top radius, planar): centreline alone, ride alone, and the whole model evaluation; the
+//!   station count is printed so the time reads per sample;
 //! - `train40/*`: the demo brief with a 40-car train (peak memory is measured by
 //!   `scripts/ratio`, with `/usr/bin/time -v`, not here).
 //!
@@ -143,6 +146,43 @@ fn train_40(c: &mut Criterion) {
     g.finish();
 }
 
+/// The inner loop of every search, in pieces: per-sample cost of geometry, ride and the model.
+fn kernel(c: &mut Criterion) {
+    use loopwright::dynamics::{Conditions, simulate};
+    use loopwright::geometry::Centreline;
+    use loopwright::model::{Curve, evaluate};
+    let brief = brief_with_cars(ISSUE_BRIEF, 1);
+    let (shape, r) = ([0.5], 9.0);
+    let spacing = r / 16.0;
+    let fam = loopwright::shape::family(ShapeKind::Clothoid).expect("clothoid is a family");
+    let profile = fam
+        .curvature_with_leads(&shape, r, brief.lead_length_m)
+        .expect("valid loop");
+    let path = Centreline::build_shifted(&profile, brief.heartline_height_m, spacing, 0.0);
+    println!(
+        "kernel: clothoid top radius {r} m at {spacing:.4} m spacing: {} stations, loop height {:.3} m",
+        path.stations.len(),
+        path.loop_height_m()
+    );
+    let cond = Conditions::lossless(brief.entry_speed_m_s);
+    let mut g = c.benchmark_group("kernel");
+    g.bench_function("centreline (planar, shift pass)", |b| {
+        b.iter(|| {
+            Centreline::build_shifted(black_box(&profile), 1.1, spacing, 0.0)
+                .stations
+                .len()
+        })
+    });
+    g.bench_function("ride (point mass)", |b| {
+        b.iter(|| simulate(black_box(&path), &cond).map(|r| r.points.len()))
+    });
+    let curve = Curve::family(ShapeKind::Clothoid, &shape, r);
+    g.bench_function("model evaluation", |b| {
+        b.iter(|| evaluate(black_box(&brief), &curve, spacing, 0.0).is_ok())
+    });
+    g.finish();
+}
+
 /// A sweep of the demo brief: `speeds × peaks × tops` designs of `shape`.
 fn sweep_spec(shape: &str, (speeds, peaks, tops): (usize, usize, usize)) -> SweepSpec {
     let base = BriefInput::from_toml(loopwright::brief::DEMO_BRIEF_TOML).expect("demo brief");
@@ -187,5 +227,13 @@ fn sweeps(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, designs, whole_process, trains, train_40, sweeps);
+criterion_group!(
+    benches,
+    kernel,
+    designs,
+    whole_process,
+    trains,
+    train_40,
+    sweeps
+);
 criterion_main!(benches);
