@@ -262,18 +262,26 @@ impl Centreline {
 
     /// Spread a planar centreline sideways (see the module docs). Station spacing stays that of the
     /// planar arc length σ; `s_m` becomes the true 3D heartline arc length.
-    pub fn with_lateral_shift(self, shift_m: f64) -> Centreline {
+    ///
+    /// The stations are rewritten in place (no second buffer per evaluation). A zero shift skips
+    /// the arc-length integral, whose every term is then exactly 0 (y' = 0·S' = 0): σ + 0 = σ, the
+    /// same bits as integrating it, so the planar search pays only for the frames.
+    pub fn with_lateral_shift(mut self, shift_m: f64) -> Centreline {
         let (a, b) = self.loop_span_m;
         let len = b - a;
         let h = self.heartline_height_m;
-        let mut stations = Vec::with_capacity(self.stations.len());
+        // Planar arc lengths of boundaries (curvature steps, loop ends) are station arc lengths;
+        // each maps to the true arc length of the first station that has it.
+        let mut marks: Vec<(f64, Option<f64>)> = self.steps.iter().map(|c| (c.s_m, None)).collect();
+        marks.push((a, None));
+        marks.push((b, None));
         // s = σ + ∫(√(1 + y'²) − 1) dσ: only the small excess is integrated, so a zero shift gives
         // s = σ exactly and the excess keeps full relative precision.
         let mut excess = 0.0;
-        for (i, st) in self.stations.iter().enumerate() {
+        let mut s0 = 0.0;
+        for (i, st) in self.stations.iter_mut().enumerate() {
             let sigma = st.s_m;
-            if i > 0 {
-                let s0 = self.stations[i - 1].s_m;
+            if i > 0 && shift_m != 0.0 {
                 let half = 0.5 * (sigma - s0);
                 // y'² is a polynomial of degree 8 in σ and y' stays small (|y'| ≤ 1.875·shift/len),
                 // so the excess y'²/(√(1 + y'²) + 1) ≈ y'²/2 is all but a polynomial: 4 points
@@ -284,6 +292,7 @@ impl Centreline {
                     excess += half * w * d2 / ((1.0 + d2).sqrt() + 1.0);
                 }
             }
+            s0 = sigma;
             let (y, dy, ddy) = lateral_offset(shift_m, a, len, sigma);
             // The planar tangent is (cos θ, 0, sin θ): reuse it rather than recompute sin_cos.
             let (sn, cs) = (st.tangent.z, st.tangent.x);
@@ -300,32 +309,21 @@ impl Centreline {
                 piece: st.piece,
                 in_loop: st.in_loop,
             };
+            for (at, to) in marks.iter_mut() {
+                if to.is_none() && *at == sigma {
+                    *to = Some(place.s_m);
+                }
+            }
             let rail_m = heartline_m - h * frame.head;
-            stations.push(Station::from_frame(place, heartline_m, rail_m, frame));
+            *st = Station::from_frame(place, heartline_m, rail_m, frame);
         }
-        // Planar arc lengths of boundaries are station arc lengths; map them to the true ones.
-        let to_true = |sigma: f64| {
-            self.stations
-                .iter()
-                .position(|st| st.s_m == sigma)
-                .map_or(sigma, |i| stations[i].s_m)
-        };
-        let steps = self
-            .steps
-            .iter()
-            .map(|c| CurvatureStep {
-                s_m: to_true(c.s_m),
-                before_1_m: c.before_1_m,
-                after_1_m: c.after_1_m,
-            })
-            .collect();
-        let loop_span_m = (to_true(a), to_true(b));
-        Centreline {
-            stations,
-            steps,
-            heartline_height_m: h,
-            loop_span_m,
+        let to_true = |(at, to): (f64, Option<f64>)| to.unwrap_or(at);
+        for (c, &mark) in self.steps.iter_mut().zip(&marks) {
+            c.s_m = to_true(mark);
         }
+        let n = marks.len();
+        self.loop_span_m = (to_true(marks[n - 2]), to_true(marks[n - 1]));
+        self
     }
 
     /// Largest |roll| of the rider's cross-axis anywhere on the path, rad.

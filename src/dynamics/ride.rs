@@ -2,7 +2,7 @@
 
 use nalgebra::Vector3;
 
-use super::train::{Entry, Places, Train, TrainRide, place_buffer, places, schedule};
+use super::train::{Entry, Places, Tracker, Train, TrainRide, schedule};
 use super::{Conditions, LoadPoint, LoadStep, Ride, Stall};
 use crate::geometry::Centreline;
 use crate::units::STANDARD_GRAVITY_M_S2 as G;
@@ -54,26 +54,32 @@ fn integrate(path: &Centreline, cond: &Conditions, train: &Train) -> Result<Moti
     let m = entries.len();
     let v0sq = cond.entry_speed_m_s * cond.entry_speed_m_s;
     let law = cond.losses();
+    // Without rolling resistance the contact force does not enter the loss rate (its term is
+    // 2·0·|a⊥| = 0 exactly), so neither it nor the cars' curvature is worked out.
+    let rolling = law.rolling_resistance != 0.0;
     let loss_rate = |u: f64, at: &Places| {
-        let contact = mean(at, |_, tangent, kvec| {
-            perpendicular_force(u, kvec, tangent).norm()
-        });
+        let contact = if rolling {
+            mean(at, |_, tangent, kvec| {
+                perpendicular_force(u, kvec, tangent).norm()
+            })
+        } else {
+            0.0
+        };
         law.rate(u, contact)
     };
-    let mut buf = place_buffer(cars);
+    let mut cars_at = Tracker::new(path, cars, rolling);
     let mut u = vec![0.0; m];
     let mut rate = vec![0.0; m];
     let mut tzbar = vec![0.0; m];
     let mut losses = 0.0;
-    let at = places(path, &entries[0], pitch_m, &mut buf);
-    let z0 = mean(&at, |z, _, _| z);
-    tzbar[0] = mean(&at, |_, t, _| t.z);
+    let z0;
+    (z0, tzbar[0]) = cars_at.advance(path, &entries[0], pitch_m);
     u[0] = v0sq;
-    rate[0] = loss_rate(v0sq, &at);
+    rate[0] = loss_rate(v0sq, &cars_at.places(path, &entries[0]));
     for e in 1..m {
-        let at = places(path, &entries[e], pitch_m, &mut buf);
-        let zbar = mean(&at, |z, _, _| z);
-        tzbar[e] = mean(&at, |_, t, _| t.z);
+        let zbar;
+        (zbar, tzbar[e]) = cars_at.advance(path, &entries[e], pitch_m);
+        let at = cars_at.places(path, &entries[e]);
         let ds = entries[e].s_lead_m - entries[e - 1].s_lead_m;
         let u_free = v0sq - 2.0 * G * (zbar - z0);
         // Heun: predict with the rate at e−1, correct with the mean of both ends.
@@ -107,45 +113,52 @@ fn integrate(path: &Centreline, cond: &Conditions, train: &Train) -> Result<Moti
     })
 }
 
-/// Car `car`'s loads at each station, the moment it passes it.
-fn car_ride(path: &Centreline, motion: &Motion, car: usize) -> Ride {
+/// Every car's loads at each station, the moment it passes it: one pass over the schedule, each
+/// entry handed to its own car (cost grows with the entries, not entries × cars).
+fn car_rides(path: &Centreline, motion: &Motion) -> Vec<Ride> {
     let st = &path.stations;
-    let mut points: Vec<LoadPoint> = (motion.entries.iter().enumerate())
-        .filter(|(_, entry)| entry.car == car)
-        .map(|(e, entry)| {
-            let s = &st[entry.station];
-            let u = motion.speed_sq[e];
-            let f = perpendicular_force(u, &s.curvature_vec_1_m, &s.tangent);
-            // Felt forward load a_t + g·sin θⱼ = g·(sin θⱼ − mean sin θ) − (losses per metre)/2.
-            // A lone car has no couplers: its first term is exactly zero, and leaving it out
-            // keeps the sign of a zero load (−0 on lossless level track).
-            let losses_g = motion.loss_rate[e] / (2.0 * G);
-            let tangential_g = if motion.cars == 1 {
-                -losses_g
-            } else {
-                (s.tangent.z - motion.mean_sin_pitch[e]) - losses_g
-            };
-            LoadPoint {
-                s_m: s.s_m,
-                time_s: motion.time_s[e],
-                speed_m_s: motion.speed_m_s[e],
-                normal_g: f.dot(&s.head) / G,
-                tangential_g,
-                lateral_g: f.dot(&s.left) / G,
-                onset_g_s: 0.0,
-            }
-        })
+    let mut points: Vec<Vec<LoadPoint>> = (0..motion.cars)
+        .map(|_| Vec::with_capacity(st.len()))
         .collect();
-    // Each car's points are in station order: its keys never decrease and the sort is stable.
-    fill_onset(path, &mut points);
-    let steps = steps_of(path, &points);
-    Ride { points, steps }
+    for (e, entry) in motion.entries.iter().enumerate() {
+        let s = &st[entry.station];
+        let u = motion.speed_sq[e];
+        let f = perpendicular_force(u, &s.curvature_vec_1_m, &s.tangent);
+        // Felt forward load a_t + g·sin θⱼ = g·(sin θⱼ − mean sin θ) − (losses per metre)/2.
+        // A lone car has no couplers: its first term is exactly zero, and leaving it out
+        // keeps the sign of a zero load (−0 on lossless level track).
+        let losses_g = motion.loss_rate[e] / (2.0 * G);
+        let tangential_g = if motion.cars == 1 {
+            -losses_g
+        } else {
+            (s.tangent.z - motion.mean_sin_pitch[e]) - losses_g
+        };
+        points[entry.car].push(LoadPoint {
+            s_m: s.s_m,
+            time_s: motion.time_s[e],
+            speed_m_s: motion.speed_m_s[e],
+            normal_g: f.dot(&s.head) / G,
+            tangential_g,
+            lateral_g: f.dot(&s.left) / G,
+            onset_g_s: 0.0,
+        });
+    }
+    points
+        .into_iter()
+        .map(|mut points| {
+            // Each car's points are in station order: its keys never decrease and the sort is
+            // stable.
+            fill_onset(path, &mut points);
+            let steps = steps_of(path, &points);
+            Ride { points, steps }
+        })
+        .collect()
 }
 
 /// Run one car (the point mass) along the path.
 pub fn simulate(path: &Centreline, cond: &Conditions) -> Result<Ride, Stall> {
     let motion = integrate(path, cond, &Train::single())?;
-    Ok(car_ride(path, &motion, 0))
+    Ok(car_rides(path, &motion).swap_remove(0))
 }
 
 /// Run a train along the path (see the module docs for the model); one car is [`simulate`].
@@ -161,7 +174,7 @@ pub fn simulate_train(
             cars,
             car_pitch_m: train.car_pitch_m,
         },
-        cars: (0..cars).map(|j| car_ride(path, &motion, j)).collect(),
+        cars: car_rides(path, &motion),
     })
 }
 

@@ -48,7 +48,13 @@ pub(super) struct CarPlace {
 
 /// The path at any arc length: cubic Hermite height (dz/ds = T_z, error O(h⁴)) and linear tangent
 /// and curvature between stations; a straight continuation beyond either end.
-fn place_at(path: &Centreline, s: f64) -> CarPlace {
+///
+/// `cursor` is the car's moving position in the station list: the index of the first station
+/// past the car, as a binary search would find it, moved from where the car was at its previous
+/// place. Cars only move forward (back by an ulp at a curvature step at most), so this costs O(1)
+/// per place instead of O(log stations). `with_curvature` false leaves `kvec` zero (a lossless
+/// ride never reads it).
+fn place_at(path: &Centreline, s: f64, cursor: &mut usize, with_curvature: bool) -> CarPlace {
     let st = &path.stations;
     let (first, last) = (&st[0], &st[st.len() - 1]);
     if s <= first.s_m {
@@ -65,7 +71,16 @@ fn place_at(path: &Centreline, s: f64) -> CarPlace {
             kvec: Vector3::zeros(),
         };
     }
-    let hi = st.partition_point(|p| p.s_m <= s).min(st.len() - 1);
+    // The partition point of `s_m <= s` over the (non-decreasing) station arc lengths.
+    let mut hi = (*cursor).min(st.len());
+    while hi > 0 && st[hi - 1].s_m > s {
+        hi -= 1;
+    }
+    while hi < st.len() && st[hi].s_m <= s {
+        hi += 1;
+    }
+    *cursor = hi;
+    let hi = hi.min(st.len() - 1);
     let (a, b) = (&st[hi - 1], &st[hi]);
     let h = b.s_m - a.s_m;
     if h <= 0.0 {
@@ -82,10 +97,15 @@ fn place_at(path: &Centreline, s: f64) -> CarPlace {
         + (-2.0 * t3 + 3.0 * t2) * b.heartline_m.z
         + (t3 - t2) * h * b.tangent.z;
     let tangent = (a.tangent * (1.0 - t) + b.tangent * t).normalize();
+    let kvec = if with_curvature {
+        a.curvature_vec_1_m * (1.0 - t) + b.curvature_vec_1_m * t
+    } else {
+        Vector3::zeros()
+    };
     CarPlace {
         z_m: z,
         tangent,
-        kvec: a.curvature_vec_1_m * (1.0 - t) + b.curvature_vec_1_m * t,
+        kvec,
     }
 }
 
@@ -101,6 +121,17 @@ pub(super) struct Entry {
 /// gives the stations themselves, in order, with `s_lead_m` their own arc length.
 pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entry> {
     let st = &path.stations;
+    if cars == 1 {
+        // One car's running maximum never decreases, so the stable sort below keeps the stations
+        // in order: skip the keys and the sort (the point mass runs hundreds of times per design).
+        return (st.iter().enumerate())
+            .map(|(station, s)| Entry {
+                s_lead_m: s.s_m,
+                car: 0,
+                station,
+            })
+            .collect();
+    }
     // Sorted by a running maximum of the position, so that each car keeps its stations in path
     // order even where rounding makes the two stations at a curvature step differ by an ulp.
     let mut keyed: Vec<(f64, Entry)> = Vec::with_capacity(st.len() * cars);
@@ -123,14 +154,109 @@ pub(super) fn schedule(path: &Centreline, cars: usize, pitch_m: f64) -> Vec<Entr
     keyed.into_iter().map(|(_, e)| e).collect()
 }
 
-/// The buffer [`places`] fills for `cars` cars: empty for a lone car, which is read off its station.
-pub(super) fn place_buffer(cars: usize) -> Vec<CarPlace> {
-    let unset = CarPlace {
-        z_m: 0.0,
-        tangent: Vector3::zeros(),
-        kvec: Vector3::zeros(),
-    };
-    vec![unset; if cars > 1 { cars } else { 0 }]
+/// Where every car of a train is, as the schedule runs: one slot and one moving position per
+/// car. Empty for a lone car, which is read off its station.
+///
+/// With rolling resistance the loss rate needs every car's contact force at the speed of the
+/// moment, so every car's place is worked out at every entry (cost ∝ entries × cars). Without it
+/// the integrator needs only the means of height and tangent rise over the cars, and those slide:
+/// at entry (station i, car j) the cars sit at σᵢ + m·p for m = j−N+1 … j, one place further on
+/// than at (i, j−1). Each station keeps its running sums, so an entry costs two places (the one
+/// gained ahead, the one dropped behind) and the whole ride grows with entries, not entries ×
+/// cars. The sums differ from adding every car afresh only by rounding (≈ N ulp of the height).
+pub(super) struct Tracker {
+    buf: Vec<CarPlace>,
+    cursors: Vec<usize>,
+    with_curvature: bool,
+    /// Sliding mode (no rolling resistance), else `None`.
+    running: Option<Sliding>,
+}
+
+/// The sliding sums: per station, the car whose entry they are for (+1) and the sums of height
+/// and tangent rise; and the moving positions of the places gained and dropped.
+type Sliding = (Vec<(usize, f64, f64)>, usize, usize);
+
+impl Tracker {
+    /// For `cars` cars on `path`; `with_curvature` whether the cars' contact forces are needed
+    /// (rolling resistance): then every car is placed at every entry, otherwise the means slide.
+    pub(super) fn new(path: &Centreline, cars: usize, with_curvature: bool) -> Tracker {
+        let unset = CarPlace {
+            z_m: 0.0,
+            tangent: Vector3::zeros(),
+            kvec: Vector3::zeros(),
+        };
+        let n = if cars > 1 { cars } else { 0 };
+        let running =
+            (n > 0 && !with_curvature).then(|| (vec![(0, 0.0, 0.0); path.stations.len()], 0, 0));
+        Tracker {
+            buf: vec![unset; n],
+            cursors: vec![0; n],
+            with_curvature,
+            running,
+        }
+    }
+
+    /// Move the train to `entry`: the means over the cars of height and of the tangent's rise
+    /// (sin θ). Afterwards [`Tracker::places`] gives every car's place (when worked out).
+    pub(super) fn advance(&mut self, path: &Centreline, entry: &Entry, pitch_m: f64) -> (f64, f64) {
+        let st = &path.stations[entry.station];
+        if self.buf.is_empty() {
+            // A lone car's mean is its own value.
+            return (st.heartline_m.z, st.tangent.z);
+        }
+        let n = self.buf.len();
+        if let Some((sums, ahead, behind)) = self.running.as_mut() {
+            let slot = &mut sums[entry.station];
+            if entry.car > 0 && slot.0 == entry.car {
+                let gained = place_at(path, entry.s_lead_m, ahead, false);
+                let dropped = place_at(path, entry.s_lead_m - n as f64 * pitch_m, behind, false);
+                slot.1 += gained.z_m - dropped.z_m;
+                slot.2 += gained.tangent.z - dropped.tangent.z;
+                slot.0 = entry.car + 1;
+                return (slot.1 / n as f64, slot.2 / n as f64);
+            }
+        }
+        self.place_all(path, entry, pitch_m);
+        let z = self.buf.iter().map(|c| c.z_m).sum::<f64>();
+        let tz = self.buf.iter().map(|c| c.tangent.z).sum::<f64>();
+        if let Some((sums, _, _)) = self.running.as_mut() {
+            sums[entry.station] = (entry.car + 1, z, tz);
+        }
+        (z / n as f64, tz / n as f64)
+    }
+
+    /// Every car's place at `entry`; the car the entry names is exactly on its station.
+    fn place_all(&mut self, path: &Centreline, entry: &Entry, pitch_m: f64) {
+        let st = &path.stations[entry.station];
+        let with_curvature = self.with_curvature;
+        for (k, (slot, cursor)) in self.buf.iter_mut().zip(&mut self.cursors).enumerate() {
+            *slot = if k == entry.car {
+                *cursor = entry.station + 1;
+                CarPlace {
+                    z_m: st.heartline_m.z,
+                    tangent: st.tangent,
+                    kvec: st.curvature_vec_1_m,
+                }
+            } else {
+                place_at(
+                    path,
+                    entry.s_lead_m - k as f64 * pitch_m,
+                    cursor,
+                    with_curvature,
+                )
+            };
+        }
+    }
+
+    /// Every car's place at the entry last passed to [`Tracker::advance`] (a lone car: its
+    /// station). Only complete with rolling resistance; the loss rate reads it only then.
+    pub(super) fn places<'a>(&'a self, path: &'a Centreline, entry: &Entry) -> Places<'a> {
+        if self.buf.is_empty() {
+            Places::Lone(&path.stations[entry.station])
+        } else {
+            Places::Train(&self.buf)
+        }
+    }
 }
 
 /// Where the cars are at one entry of the schedule.
@@ -141,28 +267,59 @@ pub(super) enum Places<'a> {
     Train(&'a [CarPlace]),
 }
 
-/// Every car's place at `entry` (written into `buf`, one slot per car, for a train); the car the
-/// entry names is exactly on its station.
-pub(super) fn places<'a>(
-    path: &'a Centreline,
-    entry: &Entry,
-    pitch_m: f64,
-    buf: &'a mut [CarPlace],
-) -> Places<'a> {
-    let st = &path.stations[entry.station];
-    if buf.is_empty() {
-        return Places::Lone(st);
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::brief::ShapeKind;
+    use crate::shape::family;
+
+    fn clothoid_path() -> Centreline {
+        let f = family(ShapeKind::Clothoid).unwrap();
+        let p = f.curvature_with_leads(&[0.6], 8.0, 5.0).unwrap();
+        Centreline::build_shifted(&p, 1.1, 0.05, 2.5)
     }
-    for (k, slot) in buf.iter_mut().enumerate() {
-        *slot = if k == entry.car {
-            CarPlace {
-                z_m: st.heartline_m.z,
-                tangent: st.tangent,
-                kvec: st.curvature_vec_1_m,
+
+    // The moving position must find the same interval as a binary search (the partition point of
+    // s_m <= s), wherever the previous place was: forward, backward, across curvature steps.
+    #[test]
+    fn moving_position_matches_binary_search() {
+        let path = clothoid_path();
+        let st = &path.stations;
+        let end = st[st.len() - 1].s_m;
+        let mut cursor = 0;
+        // A walk forward in steps that do not divide the spacing, then jumps back and forth.
+        let mut probes: Vec<f64> = (0..4000).map(|i| i as f64 * 0.0371).collect();
+        probes.extend([50.0, 3.0, 77.7, 77.69, 0.01, end - 1e-9, 12.5]);
+        probes.extend(st.iter().map(|s| s.s_m));
+        for s in probes {
+            let hi = st.partition_point(|p| p.s_m <= s).min(st.len() - 1);
+            let got = place_at(&path, s, &mut cursor, true);
+            let mut fresh = 0;
+            let want = place_at(&path, s, &mut fresh, true);
+            assert_eq!(got.z_m.to_bits(), want.z_m.to_bits(), "s = {s}");
+            assert_eq!(got.kvec, want.kvec, "s = {s}");
+            if s > st[0].s_m && s < end {
+                assert_eq!(cursor.min(st.len() - 1), hi, "s = {s}");
             }
-        } else {
-            place_at(path, entry.s_lead_m - k as f64 * pitch_m)
-        };
+        }
     }
-    Places::Train(buf)
+
+    // Sliding sums (lossless) against every car placed afresh (as with rolling resistance): the
+    // mean height and tangent rise of the same cars must agree to rounding at every entry.
+    #[test]
+    fn sliding_means_match_fresh_means() {
+        let path = clothoid_path();
+        for (cars, pitch) in [(2, 2.5), (12, 2.5), (40, 1.9)] {
+            let entries = schedule(&path, cars, pitch);
+            let mut sliding = Tracker::new(&path, cars, false);
+            let mut fresh = Tracker::new(&path, cars, true);
+            let mut worst = 0.0f64;
+            for e in &entries {
+                let (z1, t1) = sliding.advance(&path, e, pitch);
+                let (z2, t2) = fresh.advance(&path, e, pitch);
+                worst = worst.max((z1 - z2).abs()).max((t1 - t2).abs());
+            }
+            assert!(worst < 1e-11, "{cars} cars: worst difference {worst}");
+        }
+    }
 }
