@@ -269,6 +269,9 @@ impl BriefArgs {
             car_pitch_m: self.car_pitch,
             lateral_shift_m: self.lateral_shift,
             limits_file: self.limits.as_ref().map(|p| p.display().to_string()),
+            // DXF drawing fields are brief-file only.
+            gauge_m: None,
+            dxf_curves: None,
             profile: None,
         }
     }
