@@ -125,6 +125,10 @@ impl Bounds {
 /// Writes curves in the brief's form and keeps the largest fit error.
 struct Curves<'a> {
     w: &'a mut Writer,
+    /// Whether each station starts a new smooth piece (a knot the spline must have).
+    breaks: Vec<bool>,
+    /// Index of the first station of the curve being written.
+    from: usize,
     form: DxfCurves,
     max_err: f64,
 }
@@ -133,7 +137,8 @@ impl Curves<'_> {
     fn curve3d(&mut self, layer: &str, s: &[f64], p: &[Vector3<f64>], top: usize) {
         match self.form {
             DxfCurves::Spline => {
-                if let Some(f) = fit::fit_cubic(s, p, fit::FIT_TOLERANCE_M) {
+                let brk = &self.breaks[self.from..self.from + p.len()];
+                if let Some(f) = fit::fit_cubic(s, p, brk, fit::FIT_TOLERANCE_M) {
                     self.max_err = self.max_err.max(f.max_error_m);
                     self.w.spline(layer, &f.nurbs);
                 }
@@ -218,6 +223,10 @@ pub fn dxf_output(design: &Assessment) -> Result<DxfOutput, ExportError> {
         w: &mut w,
         form: design.brief.dxf_curves,
         max_err: 0.0,
+        breaks: (0..st.len())
+            .map(|i| i > 0 && st[i].piece != st[i - 1].piece)
+            .collect(),
+        from: 0,
     };
     curves.curve3d(LAYER_RAIL, &s, &rail, top);
     curves.curve3d(LAYER_HEARTLINE, &s, &heart, top);
@@ -231,6 +240,7 @@ pub fn dxf_output(design: &Assessment) -> Result<DxfOutput, ExportError> {
         }
         (s[range].to_vec(), p)
     };
+    curves.from = first;
     let (ls, lp) = elev(first..=last, &rail);
     curves.curve2d(LAYER_ELEV_RAIL, &ls, &lp);
     let (ls, lp) = elev(first..=last, &heart);
@@ -238,6 +248,7 @@ pub fn dxf_output(design: &Assessment) -> Result<DxfOutput, ExportError> {
     curves.curve2d(LAYER_ELEV_HEARTLINE, &ls, &lp);
     for range in [0..=first, last..=st.len() - 1] {
         if range.end() > range.start() {
+            curves.from = *range.start();
             let (ls, lp) = elev(range, &rail);
             curves.curve2d(LAYER_ELEV_LEAD, &ls, &lp);
         }
