@@ -524,7 +524,11 @@ fn finish_drawing(
         }
     }
     let units = orient::to_metres(drawing, &mut raw, what)?;
-    let mut c = finish(raw, format!("DXF {kind} on layer '{layer_name}', {units}"), what)?;
+    let mut c = finish(
+        raw,
+        format!("DXF {kind} on layer '{layer_name}', {units}"),
+        what,
+    )?;
     c.points_are = if layer_name.eq_ignore_ascii_case(RAIL_LAYER) {
         Some(PointsAre::Rail)
     } else if layer_name.eq_ignore_ascii_case(HEARTLINE_LAYER) {

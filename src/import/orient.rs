@@ -92,9 +92,7 @@ pub fn line_chain(
     let lines: Vec<(&str, &Line)> = drawing
         .entities()
         .filter_map(|e| match &e.specific {
-            EntityType::Line(l)
-                if layer.is_none_or(|n| e.common.layer.eq_ignore_ascii_case(n)) =>
-            {
+            EntityType::Line(l) if layer.is_none_or(|n| e.common.layer.eq_ignore_ascii_case(n)) => {
                 Some((e.common.layer.as_str(), l))
             }
             _ => None,
@@ -117,11 +115,7 @@ pub fn line_chain(
     }
     let v = |p: &dxf::Point| Vector3::new(p.x, p.y, p.z);
     let segs: Vec<[Vector3<f64>; 2]> = lines.iter().map(|(_, l)| [v(&l.p1), v(&l.p2)]).collect();
-    let size = segs
-        .iter()
-        .flatten()
-        .map(|p| p.amax())
-        .fold(1.0, f64::max);
+    let size = segs.iter().flatten().map(|p| p.amax()).fold(1.0, f64::max);
     let q = 1e-6 * size;
     let key = |p: &Vector3<f64>| {
         let r = |c: f64| (c / q).round() as i64;
@@ -205,7 +199,10 @@ pub fn orient(mut c: ImportedCentreline, up: Option<Up>) -> ImportedCentreline {
         None => {
             let n = plane_normal(&c.points_m);
             if n.z.abs() > 10f64.to_radians().cos() {
-                (Up::Y, "detected: drawn in a horizontal plane, read as an elevation")
+                (
+                    Up::Y,
+                    "detected: drawn in a horizontal plane, read as an elevation",
+                )
             } else {
                 (Up::Z, "detected: drawn in a vertical plane")
             }
