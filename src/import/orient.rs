@@ -121,6 +121,14 @@ pub fn line_chain(
         let r = |c: f64| (c / q).round() as i64;
         (r(p.x), r(p.y), r(p.z))
     };
+    // A LINE of no length joins nothing (CAD leaves them where a point was clicked twice).
+    let segs: Vec<[Vector3<f64>; 2]> = segs
+        .into_iter()
+        .filter(|s| key(&s[0]) != key(&s[1]))
+        .collect();
+    if segs.is_empty() {
+        return Ok(None);
+    }
     // Which segments touch each end point.
     let mut at: HashMap<(i64, i64, i64), Vec<usize>> = HashMap::new();
     for (i, s) in segs.iter().enumerate() {

@@ -179,7 +179,8 @@ impl Writer {
         self.text(100, "AcDbText");
     }
 
-    /// An MTEXT block: `lines` joined with paragraph breaks, top left at `at`, rotated `angle_deg`.
+    /// An MTEXT block: `lines` joined with paragraph breaks, placed at `at` by `attach` (1 top left,
+    /// 4 middle left, 5 middle centre), rotated `angle_deg`.
     pub fn mtext(
         &mut self,
         layer: &str,
@@ -193,7 +194,10 @@ impl Writer {
         self.common("MTEXT", layer, owner, "AcDbMText");
         self.point2(10, at);
         self.num(40, height);
-        self.num(41, 0.0);
+        // Reference width: room for the longest line (about 0.7 of the height per character),
+        // so readers do not wrap it.
+        let longest = lines.iter().map(|l| l.chars().count()).max().unwrap_or(1);
+        self.num(41, 0.7 * height * longest as f64);
         self.int(71, attach);
         self.int(72, 1);
         let all = lines.join("\\P");
