@@ -327,7 +327,7 @@ pub fn dxf_output(design: &Assessment) -> Result<DxfOutput, ExportError> {
         let at = Vector2::new(notes_top.x, caution_y(k));
         w.text_line(LAYER_NOTES, MODEL_SPACE_RECORD, at, t, &clean_text(line));
     }
-    let widest = 0.7 * t * figures.iter().map(|l| l.chars().count()).max().unwrap_or(1) as f64;
+    let widest = t * (figures.iter().map(|l| l.chars().count()).max().unwrap_or(1) + 2) as f64;
     sheet.add(&Vector3::new(notes_top.x + widest, notes_top.y, 0.0));
     sheet.add(&Vector3::new(notes_top.x, caution_y(caution.len()), 0.0));
 

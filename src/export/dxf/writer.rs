@@ -194,10 +194,10 @@ impl Writer {
         self.common("MTEXT", layer, owner, "AcDbMText");
         self.point2(10, at);
         self.num(40, height);
-        // Reference width: room for the longest line (about 0.7 of the height per character),
+        // Reference width: room for the longest line (a character is under a text height wide),
         // so readers do not wrap it.
         let longest = lines.iter().map(|l| l.chars().count()).max().unwrap_or(1);
-        self.num(41, 0.7 * height * longest as f64);
+        self.num(41, height * (longest + 2) as f64);
         self.int(71, attach);
         self.int(72, 1);
         let all = lines.join("\\P");
