@@ -33,7 +33,12 @@ fn run(args: &[&str]) -> (bool, String) {
 
 /// `loopwright check FILE` (plus `extra`), then its JSON report.
 fn check_json(file: &Path, out: &Path, extra: &[&str]) -> (serde_json::Value, String) {
-    let mut args = vec!["check", file.to_str().unwrap(), "--out", out.to_str().unwrap()];
+    let mut args = vec![
+        "check",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ];
     args.extend(extra);
     // A check that runs writes its report whether or not the limits pass (exit 0 or 1).
     let (_, text) = run(&args);
@@ -53,7 +58,10 @@ fn loads(v: &serde_json::Value) -> [f64; 3] {
 
 fn assert_same_loads(got: [f64; 3], want: [f64; 3], what: &str) {
     for (g, w) in got.iter().zip(want) {
-        assert!((g - w).abs() < SAME_LOADS_G, "{what}: loads {got:?}, expected {want:?}");
+        assert!(
+            (g - w).abs() < SAME_LOADS_G,
+            "{what}: loads {got:?}, expected {want:?}"
+        );
     }
 }
 
@@ -121,7 +129,11 @@ fn splines_fit_the_exact_centreline_within_1_mm() {
     let d = design(&Brief::demo()).unwrap();
     let dir = tempfile::tempdir().unwrap();
     let o = dxf_output(&d).unwrap();
-    assert!(o.max_fit_error_m <= 1e-3, "writer measured {} m", o.max_fit_error_m);
+    assert!(
+        o.max_fit_error_m <= 1e-3,
+        "writer measured {} m",
+        o.max_fit_error_m
+    );
     let f = write(dir.path(), "demo.dxf", &o.bytes);
     let csv = write(dir.path(), "demo-loads.csv", &loads_csv(&d).unwrap());
     let out = common::python(
@@ -145,7 +157,10 @@ fn drawing_add_on_draws_the_loop_at_its_size() {
     let out = common::python(
         "cad_dxf.py",
         &[Path::new("render"), &f, &png],
-        &[&s.loop_height_m.to_string(), &s.footprint_length_m.to_string()],
+        &[
+            &s.loop_height_m.to_string(),
+            &s.footprint_length_m.to_string(),
+        ],
     );
     assert!(out.lines().any(|l| l == "PASS"), "{out}");
     assert!(std::fs::metadata(&png).unwrap().len() > 10_000);
@@ -177,12 +192,20 @@ fn other_units_and_planes_check_to_the_same_loads() {
     let d = design(&b).unwrap();
     let dir = tempfile::tempdir().unwrap();
     let csv = write(dir.path(), "planar-loads.csv", &loads_csv(&d).unwrap());
-    common::python("cad_dxf.py", &[Path::new("variants"), &csv, dir.path()], &[]);
+    common::python(
+        "cad_dxf.py",
+        &[Path::new("variants"), &csv, dir.path()],
+        &[],
+    );
     let out = dir.path().join("o");
     let (metre, _) = check_json(&dir.path().join("metre_xz.dxf"), &out, &[]);
     let want = loads(&metre);
     let s = &d.best.summary;
-    assert_same_loads(want, [s.peak_normal_g, s.top_normal_g, s.min_inverted_normal_g], "metre XZ");
+    assert_same_loads(
+        want,
+        [s.peak_normal_g, s.top_normal_g, s.min_inverted_normal_g],
+        "metre XZ",
+    );
     for (name, says) in [
         ("inch_xz.dxf", "inches ($INSUNITS 1) converted to metres"),
         ("metre_xy.dxf", "up: Y (detected"),
@@ -190,10 +213,20 @@ fn other_units_and_planes_check_to_the_same_loads() {
     ] {
         let (v, text) = check_json(&dir.path().join(name), &out, &[]);
         assert_same_loads(loads(&v), want, &format!("{name}\n{text}"));
-        assert!(text.contains(says), "{name}: report does not say '{says}':\n{text}");
+        assert!(
+            text.contains(says),
+            "{name}: report does not say '{says}':\n{text}"
+        );
     }
     let xy = dir.path().join("metre_xy.dxf");
-    let (ok, text) = run(&["check", xy.to_str().unwrap(), "--up", "z", "--out", out.to_str().unwrap()]);
+    let (ok, text) = run(&[
+        "check",
+        xy.to_str().unwrap(),
+        "--up",
+        "z",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
     assert!(!ok && text.contains("tilted"), "{text}");
     let (v, _) = check_json(&xy, &out, &["--up", "y"]);
     assert_same_loads(loads(&v), want, "metre XY with --up y");
@@ -215,7 +248,11 @@ fn loads_csv_frame_columns_follow_the_convention() {
         .map(|l| l.split(',').map(|c| c.parse().unwrap()).collect())
         .collect();
     let vec3 = |r: &Vec<f64>, p: &str| {
-        nalgebra::Vector3::new(r[col(&format!("{p}x"))], r[col(&format!("{p}y"))], r[col(&format!("{p}z"))])
+        nalgebra::Vector3::new(
+            r[col(&format!("{p}x"))],
+            r[col(&format!("{p}y"))],
+            r[col(&format!("{p}z"))],
+        )
     };
     for r in &rows {
         let (t, u, l) = (vec3(r, "tangent_"), vec3(r, "up_"), vec3(r, "lateral_"));

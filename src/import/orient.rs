@@ -82,13 +82,16 @@ pub fn to_metres(
     }
 }
 
+/// A chain of LINEs: its layer and its points in order.
+pub type LineChain = (String, Vec<Vector3<f64>>);
+
 /// The LINEs on `layer` (any layer when `None`) joined end to end into one ordered chain.
 /// Ends are joined when they agree to 1 µm of the drawing's size; a branch or a gap is refused.
 pub fn line_chain(
     drawing: &Drawing,
     layer: Option<&str>,
     what: &str,
-) -> Result<Option<(String, Vec<Vector3<f64>>)>, ImportError> {
+) -> Result<Option<LineChain>, ImportError> {
     let lines: Vec<(&str, &Line)> = drawing
         .entities()
         .filter_map(|e| match &e.specific {

@@ -44,6 +44,12 @@ pub struct Writer {
     pub blocks: Vec<DimBlock>,
 }
 
+impl Default for Writer {
+    fn default() -> Writer {
+        Writer::new()
+    }
+}
+
 impl Writer {
     pub fn new() -> Writer {
         Writer {
@@ -179,6 +185,7 @@ impl Writer {
         self.text(100, "AcDbText");
     }
 
+    #[allow(clippy::too_many_arguments)]
     /// An MTEXT block: `lines` joined with paragraph breaks, placed at `at` by `attach` (1 top left,
     /// 4 middle left, 5 middle centre), rotated `angle_deg`.
     pub fn mtext(
