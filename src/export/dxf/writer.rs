@@ -8,8 +8,10 @@ use std::fmt::Write;
 
 use nalgebra::{Vector2, Vector3};
 
-/// Decimals of every coordinate: micrometres in a drawing in metres.
-const DECIMALS: usize = 6;
+/// Decimals of every number: nanometres in a drawing in metres. Micrometres were not enough: a
+/// reader sampling a spline every few centimetres and differentiating twice turned 0.5 µm of
+/// rounding into false onset (tens of g/s) at the loop entry.
+const DECIMALS: usize = 9;
 
 /// First handle given to entities; the fixed objects of [`super::sections`] use handles below it.
 pub const FIRST_FREE_HANDLE: u32 = 0x100;
