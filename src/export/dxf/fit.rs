@@ -9,10 +9,10 @@ use nalgebra::Vector3;
 
 use super::writer::Nurbs;
 
-/// Largest distance allowed between a station and the fitted curve at its parameter, m (2 µm):
+/// Largest distance allowed between a station and the fitted curve at its parameter, m (1 µm):
 /// far inside the 1 mm the DXF promises, because a reader that re-derives curvature from the curve
-/// needs it (at 0.05 mm a checked loop's loads moved by 0.011 g; at 2 µm they agree to < 0.01 g).
-pub const FIT_TOLERANCE_M: f64 = 0.002e-3;
+/// needs it (at 0.05 mm a checked loop's loads moved by 0.011 g; at 1 µm they agree to < 0.01 g).
+pub const FIT_TOLERANCE_M: f64 = 0.001e-3;
 
 /// First knot spacing, m, before refinement.
 const START_SPACING_M: f64 = 1.0;
@@ -95,7 +95,7 @@ fn hermite(
 /// Fit `points` at parameters `s` (non-decreasing; points at a repeated parameter are dropped)
 /// within `tol_m`; `breaks[i]` marks a point that must be a knot (a smooth-piece boundary).
 /// Needs at least two distinct parameters.
-pub fn fit_cubic(
+fn fit_smooth(
     s_in: &[f64],
     p_in: &[Vector3<f64>],
     breaks_in: &[bool],
@@ -177,6 +177,48 @@ pub fn fit_cubic(
     None
 }
 
+/// Fit as [`fit_smooth`], but as separate smooth segments joined at each point marked in `hard`
+/// (a curvature step: the curve stays continuous there, its curvature may jump). Segments are
+/// joined with a triple knot, so the whole is still one cubic B-spline.
+pub fn fit_cubic(
+    s: &[f64],
+    p: &[Vector3<f64>],
+    breaks: &[bool],
+    hard: &[bool],
+    tol_m: f64,
+) -> Option<Fitted> {
+    let n = s.len().min(p.len());
+    let mut cuts: Vec<usize> = (1..n.saturating_sub(1))
+        .filter(|&i| hard.get(i).copied().unwrap_or(false))
+        .collect();
+    cuts.insert(0, 0);
+    cuts.push(n.saturating_sub(1));
+    let mut out: Option<Fitted> = None;
+    for w in cuts.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        let seg = fit_smooth(
+            &s[a..=b],
+            &p[a..=b],
+            breaks.get(a..=b).unwrap_or(&[]),
+            tol_m,
+        )?;
+        out = Some(match out {
+            None => seg,
+            Some(mut f) => {
+                // Drop the end knots of both sides, join with a triple knot at the shared point.
+                let t = f.nurbs.knots[f.nurbs.knots.len() - 1];
+                f.nurbs.knots.truncate(f.nurbs.knots.len() - 4);
+                f.nurbs.knots.extend([t, t, t]);
+                f.nurbs.knots.extend_from_slice(&seg.nurbs.knots[4..]);
+                f.nurbs.control.extend_from_slice(&seg.nurbs.control[1..]);
+                f.max_error_m = f.max_error_m.max(seg.max_error_m);
+                f
+            }
+        });
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -192,7 +234,7 @@ mod tests {
             .iter()
             .map(|&a| Vector3::new(r * (a / r).sin(), 0.0, r - r * (a / r).cos()))
             .collect();
-        let f = fit_cubic(&s, &p, &[], FIT_TOLERANCE_M).unwrap();
+        let f = fit_cubic(&s, &p, &[], &[], FIT_TOLERANCE_M).unwrap();
         assert!(f.max_error_m <= FIT_TOLERANCE_M);
         assert_eq!(f.nurbs.knots.len(), f.nurbs.control.len() + 4);
         // Far fewer control points than samples: a cubic span of a 9 m circle holds ~0.5 mm over

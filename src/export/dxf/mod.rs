@@ -127,6 +127,8 @@ struct Curves<'a> {
     w: &'a mut Writer,
     /// Whether each station starts a new smooth piece (a knot the spline must have).
     breaks: Vec<bool>,
+    /// Whether each station is the first at a curvature step (the curvature may jump there).
+    steps: Vec<bool>,
     /// Index of the first station of the curve being written.
     from: usize,
     form: DxfCurves,
@@ -138,7 +140,8 @@ impl Curves<'_> {
         match self.form {
             DxfCurves::Spline => {
                 let brk = &self.breaks[self.from..self.from + p.len()];
-                if let Some(f) = fit::fit_cubic(s, p, brk, fit::FIT_TOLERANCE_M) {
+                let hard = &self.steps[self.from..self.from + p.len()];
+                if let Some(f) = fit::fit_cubic(s, p, brk, hard, fit::FIT_TOLERANCE_M) {
                     self.max_err = self.max_err.max(f.max_error_m);
                     self.w.spline(layer, &f.nurbs);
                 }
@@ -225,6 +228,12 @@ pub fn dxf_output(design: &Assessment) -> Result<DxfOutput, ExportError> {
         max_err: 0.0,
         breaks: (0..st.len())
             .map(|i| i > 0 && st[i].piece != st[i - 1].piece)
+            .collect(),
+        steps: (0..st.len())
+            .map(|i| {
+                (i == 0 || st[i - 1].s_m < st[i].s_m)
+                    && path.steps.iter().any(|k| (k.s_m - st[i].s_m).abs() < 1e-9)
+            })
             .collect(),
         from: 0,
     };
