@@ -53,6 +53,14 @@ pub enum Command {
     Evaluate(evaluate::EvaluateArgs),
 }
 
+/// The axis of a checked file that points up.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum UpArg {
+    X,
+    Y,
+    Z,
+}
+
 /// What the points of a checked centreline are.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum PointsArg {
@@ -77,6 +85,10 @@ pub struct CheckArgs {
     /// (loopwright's loads CSV and LW-HEARTLINE layer: heartline; LW-RAIL: rail), otherwise rail.
     #[arg(long, value_enum)]
     pub points: Option<PointsArg>,
+    /// Which axis of the file points up. Default: detected (a loop drawn in a horizontal plane,
+    /// as a 2D elevation in XY, has Y up; otherwise Z).
+    #[arg(long, value_enum)]
+    pub up: Option<UpArg>,
     /// Smoothing spline tolerance: RMS distance allowed between the points and the fitted curve, m.
     #[arg(long, value_name = "M", default_value_t = crate::geometry::fit::DEFAULT_TOLERANCE_M, allow_hyphen_values = true)]
     pub fit_tolerance: f64,
@@ -269,6 +281,9 @@ impl BriefArgs {
             car_pitch_m: self.car_pitch,
             lateral_shift_m: self.lateral_shift,
             limits_file: self.limits.as_ref().map(|p| p.display().to_string()),
+            // DXF drawing fields are brief-file only.
+            gauge_m: None,
+            dxf_curves: None,
             profile: None,
         }
     }
@@ -429,6 +444,12 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
             ImportError::Io { .. } => CliError::Io(e.to_string()),
             ImportError::Format { .. } => CliError::Usage(e.to_string()),
         })?;
+    let up = args.up.map(|u| match u {
+        UpArg::X => crate::import::Up::X,
+        UpArg::Y => crate::import::Up::Y,
+        UpArg::Z => crate::import::Up::Z,
+    });
+    let imported = crate::import::orient(imported, up);
     let file = args.path.display().to_string();
     let drawing = Drawing {
         points_m: imported.points_m,

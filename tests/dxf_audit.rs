@@ -7,14 +7,18 @@
 
 use std::process::Command;
 
-use loopwright::brief::Brief;
+use loopwright::brief::{Brief, DxfCurves};
 use loopwright::export::dxf::dxf_bytes;
 use loopwright::optimiser::design;
 use loopwright::report::CAUTION;
 
 #[test]
 fn demo_dxf_passes_ezdxf_audit() {
-    let design = design(&Brief::demo()).expect("the demo brief is feasible");
+    // The polyline form (brief `dxf_curves = "polyline"`): one vertex per station; the default
+    // spline form is audited by tests/cad_dxf.rs.
+    let mut brief = Brief::demo();
+    brief.dxf_curves = DxfCurves::Polyline;
+    let design = design(&brief).expect("the demo brief is feasible");
     let stations = design.best.path.stations.len();
     // The demo must not be thinned, or the vertex-count check below would not test "every station".
     assert!(

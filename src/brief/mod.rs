@@ -131,6 +131,10 @@ pub struct BriefInput {
     pub cars: Option<i64>,
     pub car_pitch_m: Option<f64>,
     pub lateral_shift_m: Option<f64>,
+    /// Running-rail gauge for the DXF's rail layers, m (ILLUSTRATIVE default).
+    pub gauge_m: Option<f64>,
+    /// How the DXF draws its curves: `"spline"` (default) or `"polyline"`.
+    pub dxf_curves: Option<String>,
     pub limits_file: Option<String>,
     /// Target load profile of the `profile` family (TOML table `[profile]`).
     pub profile: Option<ProfileInput>,
@@ -163,6 +167,11 @@ pub struct Brief {
     /// Sideways spread of the loop so the exit passes beside the entry, m (positive: to the
     /// rider's left; 0: planar loop).
     pub lateral_shift_m: f64,
+    /// Distance between the two running rails, centre to centre, m: drawn in the DXF only (the
+    /// ride model runs on the rail centreline). ILLUSTRATIVE default, see [`defaults::GAUGE_M`].
+    pub gauge_m: f64,
+    /// How the DXF draws its curves (cubic splines or one vertex per station).
+    pub dxf_curves: DxfCurves,
     /// Duration-based limit table (TOML) for the envelope check; `None`: the built-in ILLUSTRATIVE one.
     pub limits_file: Option<String>,
     /// The table `limits_file` names, once read ([`Brief::with_limits_table`]): enforced by every
@@ -171,6 +180,16 @@ pub struct Brief {
     pub limits_table: Option<limits_table::EnvelopeTable>,
     /// The target load profile (always present when `shape` is `profile`).
     pub profile: Option<ProfileSpec>,
+}
+
+/// How the DXF draws the centrelines and rails.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum DxfCurves {
+    /// Cubic SPLINE entities fitted within a stated tolerance (small files, smooth in CAD).
+    Spline,
+    /// One vertex per station (3D POLYLINE, LWPOLYLINE in the elevation).
+    Polyline,
 }
 
 /// A field of the brief that cannot be used, and why.
@@ -217,6 +236,9 @@ pub mod defaults {
     /// trains (each this wide, centred on its track) just clear each other where the tracks pass.
     /// 2.5 m is a car about 1.5–2 m wide plus clearance (common practice, no source; illustrative).
     pub const LATERAL_SHIFT_M: f64 = 2.5;
+    /// Running-rail gauge, centre to centre (ILLUSTRATIVE: a round figure from memory of steel
+    /// coaster track, no source; set the real track's value).
+    pub const GAUGE_M: f64 = 1.1;
 }
 
 fn err(field: &str, message: impl Into<String>) -> BriefError {
@@ -313,6 +335,8 @@ impl BriefInput {
             cars,
             car_pitch_m,
             lateral_shift_m,
+            gauge_m,
+            dxf_curves,
             limits_file,
             profile
         )
@@ -419,7 +443,20 @@ impl BriefInput {
             }
             _ => None,
         };
+        let gauge_m = in_range("gauge_m", self.gauge_m.unwrap_or(d::GAUGE_M), 0.1, 5.0, "m")?;
+        let dxf_curves = match self.dxf_curves.as_deref() {
+            None | Some("spline") => DxfCurves::Spline,
+            Some("polyline") => DxfCurves::Polyline,
+            Some(other) => {
+                return Err(err(
+                    "dxf_curves",
+                    format!("'{other}' is not a curve form; use \"spline\" or \"polyline\""),
+                ));
+            }
+        };
         Ok(Brief {
+            gauge_m,
+            dxf_curves,
             cars,
             car_pitch_m,
             lateral_shift_m,

@@ -1,4 +1,12 @@
-//! The load-versus-arc-length table (CSV), one row per heartline station.
+//! The load-versus-arc-length table (CSV), one row per heartline station, and the per-car table.
+//!
+//! Rows are formatted straight into one buffer (numbers only, so no quoting is ever needed).
+//!
+//! The track frame columns (dimensionless unit vectors in world axes) let a CAD user sweep a
+//! cross-section: `tangent_*` is the direction of travel, `up_*` points towards the rider's head
+//! (perpendicular to the tangent), `lateral_*` points to the rider's LEFT. The frame is
+//! right-handed: tangent × lateral = up (and lateral = up × tangent). On a planar loop lateral is
+//! +Y everywhere.
 
 use super::ExportError;
 use crate::dynamics::Ride;
@@ -6,7 +14,7 @@ use crate::geometry::Centreline;
 use crate::model::Assessment;
 
 /// Column names; units are in each name.
-pub const COLUMNS: [&str; 16] = [
+pub const COLUMNS: [&str; 25] = [
     "s_m",
     "x_m",
     "y_m",
@@ -23,7 +31,31 @@ pub const COLUMNS: [&str; 16] = [
     "rail_z_m",
     "rail_y_m",
     "roll_deg",
+    "tangent_x",
+    "tangent_y",
+    "tangent_z",
+    "up_x",
+    "up_y",
+    "up_z",
+    "lateral_x",
+    "lateral_y",
+    "lateral_z",
 ];
+
+/// Append one row of numbers (nine decimals) to `out`.
+fn push_row(out: &mut String, first: Option<usize>, values: &[f64]) {
+    use std::fmt::Write;
+    let mut sep = "";
+    if let Some(j) = first {
+        let _ = write!(out, "{j}");
+        sep = ",";
+    }
+    for v in values {
+        let _ = write!(out, "{sep}{v:.9}");
+        sep = ",";
+    }
+    out.push('\n');
+}
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
 pub fn loads_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
@@ -32,14 +64,13 @@ pub fn loads_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
 
 /// The CSV bytes of any sampled path and its ride (also used by `check`).
 pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportError> {
-    let enc = |e: csv::Error| ExportError::Encode {
-        what: "loads table",
-        message: e.to_string(),
-    };
-    let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(COLUMNS).map_err(enc)?;
+    // About 25 numbers of ~13 characters per row.
+    let mut out = String::with_capacity((path.stations.len() + 1) * 25 * 14);
+    out.push_str(&COLUMNS.join(","));
+    out.push('\n');
     for (st, p) in path.stations.iter().zip(&ride.points) {
         let h = st.heartline_m;
+        let (t, u, l) = (st.tangent, st.head, st.left);
         let rec = [
             st.s_m,
             h.x,
@@ -57,14 +88,19 @@ pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportErr
             st.rail_m.z,
             st.rail_m.y,
             st.roll_rad().to_degrees(),
+            t.x,
+            t.y,
+            t.z,
+            u.x,
+            u.y,
+            u.z,
+            l.x,
+            l.y,
+            l.z,
         ];
-        w.write_record(rec.iter().map(|v| format!("{v:.9}")))
-            .map_err(enc)?;
+        push_row(&mut out, None, &rec);
     }
-    w.into_inner().map_err(|e| ExportError::Encode {
-        what: "loads table",
-        message: e.to_string(),
-    })
+    Ok(out.into_bytes())
 }
 
 /// Column names of the per-car table; units are in each name.
@@ -84,14 +120,13 @@ pub const CAR_COLUMNS: [&str; 10] = [
 /// The per-car CSV bytes (`<name>-cars.csv`): one row per car per station, car 0 at the front;
 /// `s_m` is the car's own heartline position and `time_s` the train's clock when it is there.
 pub fn cars_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
-    let enc = |e: csv::Error| ExportError::Encode {
-        what: "per-car table",
-        message: e.to_string(),
-    };
-    let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(CAR_COLUMNS).map_err(enc)?;
+    let cars = &design.best.train.cars;
+    let rows: usize = cars.iter().map(|r| r.points.len()).sum();
+    let mut out = String::with_capacity((rows + 1) * 10 * 14);
+    out.push_str(&CAR_COLUMNS.join(","));
+    out.push('\n');
     let pitch = design.best.train.train.car_pitch_m;
-    for (j, ride) in design.best.train.cars.iter().enumerate() {
+    for (j, ride) in cars.iter().enumerate() {
         for (st, p) in design.best.path.stations.iter().zip(&ride.points) {
             let vals = [
                 j as f64 * pitch,
@@ -104,13 +139,8 @@ pub fn cars_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
                 p.onset_g_s,
                 st.roll_rad().to_degrees(),
             ];
-            let mut rec = vec![j.to_string()];
-            rec.extend(vals.iter().map(|v| format!("{v:.9}")));
-            w.write_record(&rec).map_err(enc)?;
+            push_row(&mut out, Some(j), &vals);
         }
     }
-    w.into_inner().map_err(|e| ExportError::Encode {
-        what: "per-car table",
-        message: e.to_string(),
-    })
+    Ok(out.into_bytes())
 }

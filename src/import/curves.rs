@@ -102,9 +102,16 @@ pub(super) fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
     }
     let spans = ctrl.len() - p;
     let n = (spans * SAMPLES_PER_SPAN).clamp(2, MAX_POINTS);
-    let mut out = Vec::with_capacity(n + 1);
-    for i in 0..=n {
-        let t = t0 + (t1 - t0) * i as f64 / n as f64;
+    // Uniform parameters plus every interior knot, so a sample falls exactly on each joint (where
+    // a spline written in pieces may change curvature).
+    let mut ts: Vec<f64> = (0..=n)
+        .map(|i| t0 + (t1 - t0) * i as f64 / n as f64)
+        .collect();
+    ts.extend(knots.iter().copied().filter(|&k| k > t0 && k < t1));
+    ts.sort_by(f64::total_cmp);
+    ts.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * (t1 - t0));
+    let mut out = Vec::with_capacity(ts.len());
+    for t in ts {
         // Knot span k with knots[k] <= t < knots[k+1] (last span closed at t1).
         let mut k = knots.partition_point(|&x| x <= t).saturating_sub(1);
         k = k.clamp(p, ctrl.len() - 1);

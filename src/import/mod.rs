@@ -6,7 +6,10 @@
 //!
 //! Formats, chosen by extension (`.dxf`, otherwise CSV):
 //! - DXF: one POLYLINE (2D or 3D), LWPOLYLINE or SPLINE on the layer chosen with `--layer` (read with
-//!   the `dxf` crate). Without a layer the file must hold exactly one such curve, or be loopwright's
+//!   the `dxf` crate), or, where there is none, a chain of LINEs joined end to end. Coordinates are
+//!   scaled from the drawing's $INSUNITS (mm, cm, dm, m, in, ft, yd; none: metres) to metres, and
+//!   the report's source says so. Which axis is up is settled afterwards by [`orient()`] (a loop
+//!   drawn in the XY plane is an elevation with Y up; `check --up` overrides). Without a layer the file must hold exactly one such curve, or be loopwright's
 //!   own (see below). LWPOLYLINE points
 //!   are mapped from their object coordinate system by the DXF "arbitrary axis algorithm"; arc
 //!   bulges are sampled as arcs. SPLINE entities are evaluated from control points, knots and
@@ -38,7 +41,9 @@ use std::path::{Path, PathBuf};
 use crate::geometry::fit::PointsAre;
 
 mod curves;
+mod orient;
 use curves::{lwpolyline_points, spline_points};
+pub use orient::{Up, orient, unit_scale};
 
 /// The layer of loopwright's own DXF holding the rail centreline (`export::dxf` writes it; a test
 /// checks the two agree).
@@ -454,10 +459,14 @@ pub fn from_drawing(
     let on = layer.map_or(String::new(), |l| format!(" on layer '{l}'"));
     let e = match chosen.len() {
         0 => {
+            // No polyline or spline: a chain of LINEs is the centreline, if there is one.
+            if let Some((layer_name, raw)) = orient::line_chain(drawing, layer, what)? {
+                return finish_drawing(drawing, raw, "LINE chain", &layer_name, what);
+            }
             return Err(format_err(
                 what,
                 format!(
-                    "holds no POLYLINE, LWPOLYLINE or SPLINE{on}; layers with such curves: {}",
+                    "holds no POLYLINE, LWPOLYLINE, SPLINE or LINE chain{on}; layers with such curves: {}",
                     if curve_layers.is_empty() {
                         "(none)".into()
                     } else {
@@ -493,6 +502,18 @@ pub fn from_drawing(
         ),
         _ => unreachable!("filtered to curves above"),
     };
+    finish_drawing(drawing, raw, kind, layer_name, what)
+}
+
+/// Check the points of a drawing's centreline, scale them from the drawing's unit to metres and
+/// say which line loopwright's own layers hold.
+fn finish_drawing(
+    drawing: &Drawing,
+    mut raw: Vec<Vector3<f64>>,
+    kind: &str,
+    layer_name: &str,
+    what: &str,
+) -> Result<ImportedCentreline, ImportError> {
     for (i, p) in raw.iter().enumerate() {
         for (k, v) in p.iter().enumerate() {
             check_coord(
@@ -502,7 +523,12 @@ pub fn from_drawing(
             )?;
         }
     }
-    let mut c = finish(raw, format!("DXF {kind} on layer '{layer_name}'"), what)?;
+    let units = orient::to_metres(drawing, &mut raw, what)?;
+    let mut c = finish(
+        raw,
+        format!("DXF {kind} on layer '{layer_name}', {units}"),
+        what,
+    )?;
     c.points_are = if layer_name.eq_ignore_ascii_case(RAIL_LAYER) {
         Some(PointsAre::Rail)
     } else if layer_name.eq_ignore_ascii_case(HEARTLINE_LAYER) {

@@ -6,7 +6,7 @@ usage: dxf_extents.py FILE.dxf MIN_Y_EXTENT_M
 
 Checks, each printed as one line; exits 1 on the first failure, 2 if ezdxf is missing:
 - ezdxf reads the file and its audit reports no errors;
-- every POLYLINE on layers LW-RAIL and LW-HEARTLINE is a 3D polyline;
+- every POLYLINE on layers LW-RAIL and LW-HEARTLINE is a 3D polyline (SPLINEs are 3D by nature);
 - the heartline's vertices span at least MIN_Y_EXTENT_M in Y (a shifted loop is truly 3D).
 Prints "y_extent_m <value>" for the heartline and "PASS" at the end.
 """
@@ -43,9 +43,11 @@ def main(argv):
     extent = None
     for layer in ("LW-RAIL", "LW-HEARTLINE"):
         polys = msp.query(f'POLYLINE[layer=="{layer}"]')
-        if len(polys) == 0:
-            fail(f"layer {layer}: no POLYLINE")
-        ys = []
+        splines = msp.query(f'SPLINE[layer=="{layer}"]')
+        if len(polys) + len(splines) == 0:
+            fail(f"layer {layer}: no POLYLINE or SPLINE")
+        # SPLINEs are evaluated by ezdxf itself (flattened to 0.1 mm).
+        ys = [p[1] for sp in splines for p in sp.flattening(1e-4)]
         for poly in polys:
             if not poly.is_3d_polyline:
                 fail(f"layer {layer}: POLYLINE is not a 3D polyline (flags {poly.dxf.flags})")
