@@ -10,6 +10,7 @@ use std::path::{Path, PathBuf};
 use crate::brief::{Brief, BriefError, BriefInput, DEMO_BRIEF_TOML, SpeedText};
 use crate::checks::envelope::{EnvelopeTable, MAX_LIMITS_BYTES};
 use crate::export::{ExportError, write_design};
+use crate::input::{InputError, read_text_bounded};
 use crate::optimiser::{Infeasible, design};
 use crate::report::{infeasible_message, terminal_summary};
 
@@ -217,26 +218,24 @@ impl From<ExportError> for CliError {
 }
 
 /// Largest brief file we read; a brief is a few hundred bytes.
-const MAX_BRIEF_BYTES: u64 = 1 << 20;
+pub const MAX_BRIEF_BYTES: u64 = 1 << 20;
+
+impl From<InputError> for CliError {
+    fn from(e: InputError) -> Self {
+        if e.is_bad_input() {
+            CliError::Usage(e.to_string())
+        } else {
+            CliError::Io(e.to_string())
+        }
+    }
+}
 
 /// Read a brief file, or the demo brief when none is given (see [`BriefArgs::resolve`] for when
 /// the demo applies).
 pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
     let text = match path {
         None => DEMO_BRIEF_TOML.to_string(),
-        Some(p) => {
-            let meta = std::fs::metadata(p)
-                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?;
-            if meta.len() > MAX_BRIEF_BYTES {
-                return Err(CliError::Usage(format!(
-                    "brief {} is {} bytes; a brief is a small TOML file (at most {MAX_BRIEF_BYTES} bytes)",
-                    p.display(),
-                    meta.len()
-                )));
-            }
-            std::fs::read_to_string(p)
-                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
-        }
+        Some(p) => read_text_bounded(p, MAX_BRIEF_BYTES, "brief")?,
     };
     BriefInput::from_toml(&text).map_err(|e| {
         let what = path.map_or("the demo brief".to_string(), |p| p.display().to_string());
@@ -318,21 +317,14 @@ pub fn attach_limits_table(brief: &mut Brief, brief_file: Option<&Path>) -> Resu
 /// Read and check a duration-based limit table (`--limits` / `limits_file`).
 pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
     // A missing table is a wrong argument (exit 2), like a missing brief field.
-    let meta = std::fs::metadata(path).map_err(|e| {
-        CliError::Usage(format!(
-            "cannot read limits file {}: {e}\nhint: check the path; a limits_file in a brief is taken from the brief's folder",
-            path.display()
-        ))
+    let text = read_text_bounded(path, MAX_LIMITS_BYTES, "limits file").map_err(|e| {
+        let hint =
+            "hint: check the path; a limits_file in a brief is taken from the brief's folder";
+        match CliError::from(e) {
+            CliError::Usage(m) => CliError::Usage(format!("{m}\n{hint}")),
+            other => other,
+        }
     })?;
-    if meta.len() > MAX_LIMITS_BYTES {
-        return Err(CliError::Usage(format!(
-            "limits file {} is {} bytes; a limit table is a small TOML file (at most {MAX_LIMITS_BYTES} bytes)",
-            path.display(),
-            meta.len()
-        )));
-    }
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
     EnvelopeTable::from_toml(&text).map_err(|e| {
         CliError::Usage(format!(
             "{}: {e}\nhint: see examples/limits-illustrative.toml for the format",

@@ -14,6 +14,7 @@ use super::{BriefArgs, CliError};
 use crate::brief::{BriefInput, DEMO_BRIEF_TOML, ShapeKind};
 use crate::compare::compare;
 use crate::export::{ExportError, overlay, study, write_atomic};
+use crate::input::{read_bounded, read_text_bounded};
 use crate::report::compare_table;
 use crate::sweep::{self, AxisText, Shard, SweepInput, SweepSpec};
 
@@ -139,20 +140,7 @@ const MAX_SWEEP_FILE_BYTES: u64 = 1 << 20;
 fn read_sweep_file(path: Option<&Path>) -> Result<(BriefInput, SweepInput), CliError> {
     let text = match path {
         None => DEMO_BRIEF_TOML.to_string(),
-        Some(p) => {
-            let meta = std::fs::metadata(p).map_err(|e| {
-                CliError::Io(format!("cannot read sweep file {}: {e}", p.display()))
-            })?;
-            if meta.len() > MAX_SWEEP_FILE_BYTES {
-                return Err(CliError::Usage(format!(
-                    "sweep file {} is {} bytes; a sweep file is a small TOML file (at most {MAX_SWEEP_FILE_BYTES} bytes)",
-                    p.display(),
-                    meta.len()
-                )));
-            }
-            std::fs::read_to_string(p)
-                .map_err(|e| CliError::Io(format!("cannot read sweep file {}: {e}", p.display())))?
-        }
+        Some(p) => read_text_bounded(p, MAX_SWEEP_FILE_BYTES, "sweep file")?,
     };
     let what = path.map_or("the demo brief".to_string(), |p| p.display().to_string());
     sweep::parse_sweep_file(&text).map_err(|e| CliError::Usage(format!("{what}: {e}")))
@@ -286,12 +274,15 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
     ))
 }
 
+/// Largest shard CSV we read: a million rows of the sweep table are about 250 MB; a shard holds a
+/// part of a sweep of at most [`sweep::MAX_DESIGNS`] designs.
+pub const MAX_SHARD_BYTES: u64 = 512 << 20;
+
 /// Run `merge`.
 pub fn run_merge(args: &MergeArgs) -> Result<String, CliError> {
     let mut shards = Vec::new();
     for p in &args.shards {
-        let bytes = std::fs::read(p)
-            .map_err(|e| CliError::Io(format!("cannot read shard {}: {e}", p.display())))?;
+        let bytes = read_bounded(p, MAX_SHARD_BYTES, "shard")?;
         shards.push((p.display().to_string(), bytes));
     }
     let merged = study::merge_sweep_csv(&shards).map_err(|e| CliError::Usage(e.to_string()))?;
