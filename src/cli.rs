@@ -2,7 +2,8 @@
 //!
 //! The binary in `main.rs` only calls [`main_with_args`]; everything else lives here so that tests
 //! can drive the commands in-process. Exit codes: 0 success, 2 usage error (bad flags, bad brief
-//! file or field), 3 infeasible brief (no loop meets the limits), 4 input/output error.
+//! file or field, any bad input file), 3 infeasible brief (no loop meets the limits), 4 input/output
+//! error (including standard output closed or full). Nothing here panics on a closed pipe.
 
 use clap::{Args, Parser, Subcommand};
 use std::path::{Path, PathBuf};
@@ -20,7 +21,8 @@ pub const EXIT_OK: i32 = 0;
 pub const EXIT_USAGE: i32 = 2;
 /// Exit code: the brief is valid but no loop meets its limits.
 pub const EXIT_INFEASIBLE: i32 = 3;
-/// Exit code: a file could not be read or written.
+/// Exit code: a file could not be read or written, or standard output could not be written (a
+/// closed pipe, a full disk).
 pub const EXIT_IO: i32 = 4;
 
 #[derive(Debug, Parser)]
@@ -479,17 +481,41 @@ where
         }
     };
     match run(&cli) {
-        Ok(text) => {
-            print!("{text}");
-            EXIT_OK
-        }
+        Ok(text) => match write_stdout(&text) {
+            Ok(()) => EXIT_OK,
+            Err(e) => {
+                // Standard output is gone (a closed pipe) or full: say so where we still can.
+                write_stderr(&format!("loopwright: cannot write standard output: {e}\n"));
+                EXIT_IO
+            }
+        },
         Err(e) => {
             match &e {
-                CliError::Infeasible(inf) => eprint!("loopwright: {}", infeasible_message(inf)),
-                CliError::Fails(report) => eprint!("{report}"),
-                other => eprintln!("loopwright: {other}"),
+                CliError::Infeasible(inf) => {
+                    write_stderr(&format!("loopwright: {}", infeasible_message(inf)))
+                }
+                CliError::Fails(report) => write_stderr(report),
+                other => write_stderr(&format!("loopwright: {other}\n")),
             }
             e.exit_code()
         }
     }
+}
+
+/// Write to standard output and flush, returning the error instead of panicking as `print!`
+/// does on a closed pipe or a full disk.
+pub fn write_stdout(text: &str) -> std::io::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())?;
+    out.flush()
+}
+
+/// Write to standard error; a failure is ignored, as there is nowhere left to report it (the
+/// exit code still says what happened).
+pub fn write_stderr(text: &str) {
+    use std::io::Write;
+    let mut err = std::io::stderr().lock();
+    let _ = err.write_all(text.as_bytes());
+    let _ = err.flush();
 }

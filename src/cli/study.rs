@@ -124,7 +124,7 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     };
     if c.feasible_count() == 0 {
         // Nothing meets the brief: still show the table (it says why, family by family).
-        print!("{text}");
+        let _ = super::write_stdout(&text);
         let first = c.entries.into_iter().find_map(|e| e.result.err());
         return match first {
             Some(inf) => Err(CliError::Infeasible(Box::new(inf))),
