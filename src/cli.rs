@@ -213,8 +213,17 @@ impl From<BriefError> for CliError {
 
 impl From<ExportError> for CliError {
     fn from(e: ExportError) -> Self {
+        if let ExportError::NotAFolder { .. } = e {
+            return CliError::Usage(e.to_string());
+        }
+        // Only claim the earlier outputs are intact when nothing was replaced.
+        let earlier = if e.left_earlier_outputs() {
+            "earlier outputs were left as they were"
+        } else {
+            "run again to write a consistent set"
+        };
         CliError::Io(format!(
-            "{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"
+            "{e}\nhint: check that the --out folder is writable and the disk has space; {earlier}"
         ))
     }
 }
@@ -443,6 +452,9 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
         })?;
     let written = write_design(&checked, &args.out)?;
     let mut out = crate::report::check_summary(&checked);
+    if let Some(note) = mixed_set_note(&args.path) {
+        out.push_str(&note);
+    }
     out.push_str("wrote:\n");
     for p in written {
         out.push_str(&format!("  {}\n", p.display()));
@@ -451,6 +463,31 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
         return Err(CliError::Fails(out));
     }
     Ok(if args.quiet { String::new() } else { out })
+}
+
+/// A note when the checked file belongs to a loopwright output set (a JSON report beside it
+/// lists it) whose files do not match the report's SHA-256: a set mixed by an interrupted or
+/// concurrent run, or a file edited since. Not an error: checking an edited drawing is normal.
+fn mixed_set_note(path: &Path) -> Option<String> {
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path.file_name()?.to_string_lossy().into_owned();
+    // A design's files share its stem; its report is `<stem>.json`.
+    let stem = ["-loads.csv", "-cars.csv", ".dxf"]
+        .iter()
+        .find_map(|suffix| name.strip_suffix(suffix))?;
+    let report = dir.join(format!("{stem}.json"));
+    let bytes = crate::input::read_bounded(&report, 64 << 20, "report").ok()?;
+    let differ = crate::export::publish::verify_report(&report, &bytes);
+    (!differ.is_empty()).then(|| {
+        format!(
+            "note: {} differ from the SHA-256 listed in {}: the folder holds files of different runs, or edited files\n",
+            differ.join(", "),
+            report.display()
+        )
+    })
 }
 
 /// Run a parsed command.

@@ -104,9 +104,8 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     let brief = flags.resolve()?;
     let c = compare(&brief, &kinds);
     let name = &brief.name;
-    let files = vec![
+    let mut files = vec![
         (format!("{name}-compare.csv"), study::compare_csv(&c)?),
-        (format!("{name}-compare.json"), study::compare_json(&c)?),
         (
             format!("{name}-compare-elevation.svg"),
             overlay::elevation_overlay_svg(&c).into_bytes(),
@@ -116,6 +115,9 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
             overlay::loads_overlay_svg(&c).into_bytes(),
         ),
     ];
+    // The report last, with its siblings' digests (see `export::publish`).
+    let report = study::compare_json_with(&c, crate::export::publish::digests(&files))?;
+    files.push((format!("{name}-compare.json"), report));
     let written = write_files(&args.out, files)?;
     let text = if args.quiet {
         String::new()

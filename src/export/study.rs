@@ -9,6 +9,7 @@
 use serde::Serialize;
 
 use super::ExportError;
+use super::publish::OutputDigest;
 use crate::brief::Brief;
 use crate::compare::{Comparison, Entry, KeyFigures};
 use crate::report::CAUTION;
@@ -139,10 +140,21 @@ pub struct CompareJson<'a> {
     pub caution: &'static str,
     pub brief: &'a Brief,
     pub families: Vec<CompareJsonEntry>,
+    /// The files written with this report, with their SHA-256 (absent when it stands alone).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub outputs: Vec<OutputDigest>,
 }
 
 /// Pretty-printed JSON of a comparison.
 pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
+    compare_json_with(c, Vec::new())
+}
+
+/// The compare JSON listing the files written with it.
+pub fn compare_json_with(
+    c: &Comparison,
+    outputs: Vec<OutputDigest>,
+) -> Result<Vec<u8>, ExportError> {
     let families = c
         .entries
         .iter()
@@ -166,6 +178,7 @@ pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
         caution: CAUTION,
         brief: &c.brief,
         families,
+        outputs,
     };
     let mut v = serde_json::to_vec_pretty(&doc).map_err(|e| ExportError::Encode {
         what: "compare JSON",
