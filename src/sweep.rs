@@ -51,7 +51,10 @@ fn number(field: &str, whole: &str, text: &str) -> Result<f64, SweepError> {
         err(field, format!("'{whole}': '{text}' is not a number; write START..END:COUNT (e.g. 20..30:11) or one value"))
     })?;
     if !v.is_finite() {
-        return Err(err(field, format!("'{whole}': {v} is not a finite number")));
+        return Err(err(
+            field,
+            format!("'{whole}': {} is not a finite number", crate::brief::eng(v)),
+        ));
     }
     Ok(v)
 }
@@ -150,11 +153,25 @@ pub fn parse_shapes(text: &str) -> Result<Vec<ShapeKind>, SweepError> {
 }
 
 /// A value as written in a `[sweep]` table: a number or a range string.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum AxisText {
     Number(f64),
     Text(String),
+}
+
+impl<'de> Deserialize<'de> for AxisText {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Ok(
+            match crate::brief::number_or_text(
+                d,
+                "one number or a range text START..END:COUNT such as \"20..30:11\"",
+            )? {
+                Ok(v) => AxisText::Number(v),
+                Err(t) => AxisText::Text(t),
+            },
+        )
+    }
 }
 
 impl AxisText {
@@ -192,17 +209,37 @@ impl SweepInput {
 /// Split a sweep file into its brief fields and its `[sweep]` table. A plain brief (no table) is a
 /// valid sweep file too.
 pub fn parse_sweep_file(text: &str) -> Result<(BriefInput, SweepInput), SweepError> {
-    let mut table: toml::Table = toml::from_str(text)
-        .map_err(|e| err("(file)", format!("not valid TOML: {}", e.message())))?;
-    let sweep = match table.remove("sweep") {
-        None => SweepInput::default(),
-        Some(v) => v
-            .try_into()
-            .map_err(|e: toml::de::Error| err("[sweep]", e.message().to_string()))?,
+    use crate::brief::toml_error;
+    let mut table: toml::Table = toml::from_str(text).map_err(|e| {
+        err(
+            "(file)",
+            format!("not valid TOML: {}", toml_error(text, &e)),
+        )
+    })?;
+    // Errors are taken from a parse of the text itself where possible, so that they carry the
+    // line and column (a detached value has none).
+    #[derive(Deserialize)]
+    struct SweepOnly {
+        sweep: Option<SweepInput>,
+    }
+    let sweep = match toml::from_str::<SweepOnly>(text) {
+        Ok(s) => s.sweep.unwrap_or_default(),
+        Err(e) => return Err(err("[sweep]", toml_error(text, &e))),
     };
-    let brief: BriefInput = toml::Value::Table(table)
-        .try_into()
-        .map_err(|e: toml::de::Error| err("(brief fields)", e.message().to_string()))?;
+    table.remove("sweep");
+    let brief: BriefInput =
+        toml::Value::Table(table)
+            .try_into()
+            .map_err(|e: toml::de::Error| {
+                // The same fields parsed from the text locate the error, unless the parse stops first
+                // at the `sweep` key a brief does not know.
+                match toml::from_str::<BriefInput>(text) {
+                    Err(located) if !located.message().contains("`sweep`") => {
+                        err("(brief fields)", toml_error(text, &located))
+                    }
+                    _ => err("(brief fields)", toml_error(text, &e)),
+                }
+            })?;
     Ok((brief, sweep))
 }
 
@@ -400,7 +437,15 @@ pub enum SweepSetupError {
 }
 
 fn axis_value_error(field: &str, v: f64, e: BriefError) -> SweepSetupError {
-    err(field, format!("value {v} cannot be used: {}", e.message)).into()
+    err(
+        field,
+        format!(
+            "value {} cannot be used: {}",
+            crate::brief::eng(v),
+            e.message
+        ),
+    )
+    .into()
 }
 
 /// Which part of a grid one job runs: grid indices with `index % count == number − 1`.

@@ -93,13 +93,102 @@ pub enum Objective {
 }
 
 /// A speed as written in TOML: a number (m/s) or a string with a unit.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum SpeedText {
     /// Metres per second.
     Number(f64),
     /// A number with a unit suffix: m/s, km/h or mph.
     Text(String),
+}
+
+impl<'de> Deserialize<'de> for SpeedText {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Ok(
+            match number_or_text(
+                d,
+                "a speed: a number in m/s or text with a unit such as \"90 km/h\"",
+            )? {
+                Ok(v) => SpeedText::Number(v),
+                Err(t) => SpeedText::Text(t),
+            },
+        )
+    }
+}
+
+/// Serde: a value that is a number or a text, with `expecting` in the message when it is neither
+/// (a derived untagged enum would name its Rust type instead).
+pub fn number_or_text<'de, D: serde::Deserializer<'de>>(
+    d: D,
+    expecting: &'static str,
+) -> Result<Result<f64, String>, D::Error> {
+    struct V(&'static str);
+    impl serde::de::Visitor<'_> for V {
+        type Value = Result<f64, String>;
+        fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+            f.write_str(self.0)
+        }
+        fn visit_f64<E>(self, v: f64) -> Result<Self::Value, E> {
+            Ok(Ok(v))
+        }
+        fn visit_i64<E>(self, v: i64) -> Result<Self::Value, E> {
+            Ok(Ok(v as f64))
+        }
+        fn visit_u64<E>(self, v: u64) -> Result<Self::Value, E> {
+            Ok(Ok(v as f64))
+        }
+        fn visit_str<E>(self, v: &str) -> Result<Self::Value, E> {
+            Ok(Err(v.to_string()))
+        }
+    }
+    d.deserialize_any(V(expecting))
+}
+
+/// A number as echoed in messages: plain when of ordinary size, in engineering form (`1e300`,
+/// `2.5e-9`) when very large or small, so that no message is hundreds of digits long.
+pub fn eng(v: f64) -> String {
+    let a = v.abs();
+    if v.is_finite() && a != 0.0 && !(1e-3..1e6).contains(&a) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
+}
+
+/// A TOML error as a user reads it: line and column, the line itself (which names the field),
+/// the key of a duplicate, and no Rust type names.
+pub fn toml_error(text: &str, e: &toml::de::Error) -> String {
+    let mut message = e.message().to_string();
+    // Derived deserialisers name Rust types; say what is expected instead.
+    for (from, to) in [
+        ("struct ProfileInput", "a [profile] table"),
+        ("struct BriefInput", "a brief (TOML key = value lines)"),
+        ("struct SweepInput", "a [sweep] table"),
+        ("struct EnvelopeTable", "a limits table"),
+        ("struct AxisLimits", "an axis table (max_onset_g_s, level)"),
+        ("struct Level", "a level table (duration_s, max_g, min_g)"),
+        ("expected f64", "expected a number"),
+        ("expected i64", "expected a whole number"),
+        ("expected usize", "expected a whole number"),
+        ("expected a sequence", "expected a list such as [1, 2]"),
+    ] {
+        message = message.replace(from, to);
+    }
+    let Some(span) = e.span() else {
+        return message;
+    };
+    let start = span.start.min(text.len());
+    let before = &text[..start];
+    let line = before.matches('\n').count() + 1;
+    let line_start = before.rfind('\n').map_or(0, |i| i + 1);
+    let column = before[line_start..].chars().count() + 1;
+    let line_text = text[line_start..].lines().next().unwrap_or("").trim();
+    if message == "duplicate key" {
+        let key = text.get(span.clone()).unwrap_or("").trim();
+        message = format!("duplicate key `{key}` (each field may be given once)");
+    }
+    let shown: String = line_text.chars().take(80).collect();
+    format!("line {line}, column {column} (`{shown}`): {message}")
 }
 
 /// A brief as the user wrote it: every field optional.
@@ -231,13 +320,23 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
     if !value.is_finite() {
         return Err(err(
             field,
-            format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}"),
+            format!(
+                "{} is not a finite number; give a value from {} to {} {unit}",
+                eng(value),
+                eng(lo),
+                eng(hi)
+            ),
         ));
     }
     if value < lo || value > hi {
         return Err(err(
             field,
-            format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}"),
+            format!(
+                "{} {unit} is out of range; allowed {} to {} {unit}",
+                eng(value),
+                eng(lo),
+                eng(hi)
+            ),
         ));
     }
     Ok(value)
@@ -245,16 +344,9 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
 
 /// Serde: an optional limit in a brief file, a number or one of the off words (as +∞).
 fn limit_or_off<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
-    #[derive(Deserialize)]
-    #[serde(untagged)]
-    enum NumberOrWord {
-        Number(f64),
-        Word(String),
-    }
-    match Option::<NumberOrWord>::deserialize(d)? {
-        None => Ok(None),
-        Some(NumberOrWord::Number(v)) => Ok(Some(v)),
-        Some(NumberOrWord::Word(w)) => parse_limit_or_off(&w)
+    match number_or_text(d, "a number, or \"none\" (also off, inf) for no limit")? {
+        Ok(v) => Ok(Some(v)),
+        Err(w) => parse_limit_or_off(&w)
             .map(Some)
             .map_err(serde::de::Error::custom),
     }
@@ -283,8 +375,7 @@ fn optional_cap(
 impl BriefInput {
     /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
     pub fn from_toml(text: &str) -> Result<Self, BriefError> {
-        toml::from_str(text)
-            .map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
+        toml::from_str(text).map_err(|e| err("(file)", toml_error(text, &e)))
     }
 
     /// Fields set in `over` replace those in `self` (flags over a file).

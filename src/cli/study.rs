@@ -99,7 +99,9 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     let mut flags = args.brief.clone();
     let kinds = match flags.shape.take() {
         None => ShapeKind::ALL.to_vec(),
-        Some(list) => sweep::parse_shapes(&list).map_err(|e| CliError::Usage(e.to_string()))?,
+        // Named as the brief field it is, not as a sweep axis.
+        Some(list) => sweep::parse_shapes(&list)
+            .map_err(|e| CliError::Usage(format!("brief field 'shape': {}", e.message)))?,
     };
     let brief = flags.resolve()?;
     let c = compare(&brief, &kinds);
