@@ -344,10 +344,48 @@ pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
     })
 }
 
+/// Work estimated to take longer than this, s, is announced before it starts and shows progress.
+pub const LONG_WORK_S: f64 = 180.0;
+
+/// A duration for people: seconds, minutes or hours.
+pub fn duration_text(s: f64) -> String {
+    if s < 120.0 {
+        format!("{s:.0} s")
+    } else if s < 7200.0 {
+        format!("{:.0} min", s / 60.0)
+    } else {
+        format!("{:.1} h", s / 3600.0)
+    }
+}
+
 /// Run `design`: returns the text for standard output.
 pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     let brief = args.brief.resolve()?;
-    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    let estimate_s = crate::sweep::estimated_design_s(brief.shape, brief.spacing_m, brief.cars);
+    // Long work says so first and shows it is alive (a spinner with the elapsed time; the
+    // optimiser has no natural count to show).
+    let spinner = (estimate_s > LONG_WORK_S && !args.quiet).then(|| {
+        write_stderr(&format!(
+            "loopwright: this design ({} cars, {} m spacing) is estimated to take about {}\n",
+            brief.cars,
+            brief.spacing_m,
+            duration_text(estimate_s)
+        ));
+        let bar = indicatif::ProgressBar::new_spinner();
+        bar.set_message("designing");
+        if let Ok(style) =
+            indicatif::ProgressStyle::with_template("{spinner} {msg}, {elapsed} elapsed")
+        {
+            bar.set_style(style);
+        }
+        bar.enable_steady_tick(std::time::Duration::from_millis(200));
+        bar
+    });
+    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)));
+    if let Some(bar) = spinner {
+        bar.finish_and_clear();
+    }
+    let d = d?;
     let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());

@@ -31,6 +31,28 @@ pub const MAX_AXIS_VALUES: usize = 10_000;
 /// Most designs one sweep may have (before sharding); a guard against a typo asking for billions.
 pub const MAX_DESIGNS: usize = 1_000_000;
 
+/// Most CPU time one sweep job (a whole grid or one shard) may be estimated to take, s: 8 hours
+/// (a working night on one machine; illustrative).
+/// Above it the grid is refused before it starts (split it into shards for an array job).
+pub const MAX_JOB_CPU_S: f64 = 8.0 * 3600.0;
+
+/// A rough estimate of the CPU seconds one design takes, for warnings and the ceiling, not a
+/// promise. Figures measured whole-process on the 2-core reference machine (issue 12: clothoid
+/// 32 ms, spline 225 ms per design; circle and profile measured here the same way, from memory of
+/// those runs) at the default 0.05 m spacing; the cost grows with the number of samples
+/// (1/spacing) and, for trains, with the square of the car count (measured here: 6, 12, 24 cars
+/// took 6.5, 24 and 88 times one car, fitted by 1 + 0.15 (cars² − 1)).
+pub fn estimated_design_s(kind: ShapeKind, spacing_m: f64, cars: usize) -> f64 {
+    let base_s = match kind {
+        ShapeKind::Circle => 0.02,
+        ShapeKind::Clothoid => 0.032,
+        ShapeKind::Spline => 0.225,
+        ShapeKind::Profile => 0.1,
+    };
+    let n = cars.max(1) as f64;
+    base_s * (0.05 / spacing_m.max(1e-3)) * (1.0 + 0.15 * (n * n - 1.0))
+}
+
 /// A sweep definition that cannot be used, and why.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[error("sweep {field}: {message}")]
@@ -345,6 +367,21 @@ impl SweepSpec {
             )
             .into()),
         }
+    }
+
+    /// Estimated CPU seconds of the designs `shard` runs (all without a shard); see
+    /// [`estimated_design_s`].
+    pub fn estimated_cpu_s(&self, shard: Option<Shard>) -> f64 {
+        let per_family = self.len() / self.shapes.len().max(1);
+        let share = shard.map_or(1.0, |s| 1.0 / s.count as f64);
+        self.shapes
+            .iter()
+            .map(|&k| {
+                estimated_design_s(k, self.base_brief.spacing_m, self.base_brief.cars)
+                    * per_family as f64
+                    * share
+            })
+            .sum()
     }
 
     /// Number of designs in the whole grid.

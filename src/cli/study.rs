@@ -232,6 +232,22 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
     let total = (0..spec.len())
         .filter(|&i| shard.is_none_or(|s| s.contains(i)))
         .count();
+    let cpu_s = spec.estimated_cpu_s(shard);
+    if cpu_s > sweep::MAX_JOB_CPU_S {
+        return Err(CliError::Usage(format!(
+            "this sweep of {total} designs would take about {} hours of CPU (estimate), more than the ceiling of {} hours for one job\nhint: use fewer values, a coarser --spacing, or split it with --shard I/N across machines",
+            (cpu_s / 3600.0).round(),
+            sweep::MAX_JOB_CPU_S / 3600.0
+        )));
+    }
+    let wall_s = cpu_s / pool.current_num_threads() as f64;
+    if wall_s > super::LONG_WORK_S && !args.quiet {
+        super::write_stderr(&format!(
+            "loopwright: {total} designs, estimated {} on {} threads; progress below\n",
+            super::duration_text(wall_s),
+            pool.current_num_threads()
+        ));
+    }
     let bar = progress_bar(total, args.quiet);
     let started = Instant::now();
     let rows = pool.install(|| sweep::run(&spec, shard, &|| bar.inc(1)));
