@@ -67,19 +67,36 @@ impl ExportError {
 
 /// Write `bytes` to `path` as a set of one ([`publish`]).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let name = path
-        .file_name()
-        .ok_or_else(|| ExportError::NotAFolder {
-            path: path.to_path_buf(),
-            message: "names no file".into(),
-        })?
-        .to_string_lossy()
-        .into_owned();
-    publish::publish(dir, &[(name, bytes.to_vec())])
+    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+}
+
+/// Write files given by full path, each folder's files as one set ([`publish`]), in the order
+/// given (put a report last).
+pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError> {
+    let mut by_dir: Vec<(PathBuf, Vec<(String, Vec<u8>)>)> = Vec::new();
+    for (path, bytes) in files {
+        let dir = path
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."))
+            .to_path_buf();
+        let name = path
+            .file_name()
+            .ok_or_else(|| ExportError::NotAFolder {
+                path: path.clone(),
+                message: "names no file".into(),
+            })?
+            .to_string_lossy()
+            .into_owned();
+        match by_dir.iter_mut().find(|(d, _)| *d == dir) {
+            Some((_, list)) => list.push((name, bytes.clone())),
+            None => by_dir.push((dir, vec![(name, bytes.clone())])),
+        }
+    }
+    for (dir, list) in by_dir {
+        publish::publish(&dir, &list)?;
+    }
+    Ok(())
 }
 
 /// Everything a design run writes, encoded in memory first so that nothing is written unless all
