@@ -8,7 +8,8 @@
 //!   reports, which is 0 for special files and can change while reading.
 //!
 //! Every refusal is an [`InputError`] naming the file; the command line maps [`InputError::Bad`]
-//! to exit code 2 (bad input) and [`InputError::Io`] (a file that exists but cannot be read) to 4.
+//! (not a regular file, too large, not UTF-8) to exit code 2 and [`InputError::Io`] (missing or
+//! unreadable) to 4.
 
 use std::fs::{File, Metadata};
 use std::io::Read;
@@ -17,14 +18,14 @@ use std::path::{Path, PathBuf};
 /// Why an input file was not read.
 #[derive(Debug, thiserror::Error)]
 pub enum InputError {
-    /// The file is missing, not a regular file, too large or not text: the user's input is wrong.
+    /// The file is not a regular file, too large or not text: the user's input is wrong.
     #[error("{what} {path}: {message}")]
     Bad {
         what: &'static str,
         path: PathBuf,
         message: String,
     },
-    /// The file is there but reading it failed.
+    /// The file is missing or reading it failed.
     #[error("cannot read {what} {path}: {source}")]
     Io {
         what: &'static str,
@@ -78,21 +79,16 @@ pub fn read_bounded(path: &Path, cap: u64, what: &'static str) -> Result<Vec<u8>
         source,
     };
     // By type first, so that a FIFO is never opened (opening one for reading blocks).
-    let meta = std::fs::metadata(path).map_err(|e| match e.kind() {
-        std::io::ErrorKind::NotFound => bad("no such file; check the path".into()),
-        std::io::ErrorKind::PermissionDenied => bad(format!("cannot be read ({e})")),
-        _ => io(e),
-    })?;
+    // A missing or unreadable file is an I/O error (exit 4), as it always was; callers for which
+    // a missing file is a wrong argument (the limits table) map it themselves.
+    let meta = std::fs::metadata(path).map_err(io)?;
     if !meta.is_file() {
         return Err(bad(format!(
             "is {}; give a regular file (loopwright reads only regular files, so that a device or pipe cannot fill memory or block)",
             kind_of(&meta)
         )));
     }
-    let file = open_nonblocking(path).map_err(|e| match e.kind() {
-        std::io::ErrorKind::PermissionDenied => bad(format!("cannot be read ({e})")),
-        _ => io(e),
-    })?;
+    let file = open_nonblocking(path).map_err(io)?;
     // The path may have been swapped between the check and the open: check what was opened.
     let opened = file.metadata().map_err(io)?;
     if !opened.is_file() {

@@ -303,7 +303,12 @@ fn optional_cap(
 impl BriefInput {
     /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
     pub fn from_toml(text: &str) -> Result<Self, BriefError> {
-        toml::from_str(text).map_err(|e| err("(file)", toml_error(text, &e)))
+        toml::from_str(text).map_err(|e| {
+            err(
+                "(file)",
+                format!("not a valid brief: {}", toml_error(text, &e)),
+            )
+        })
     }
 
     /// Fields set in `over` replace those in `self` (flags over a file).

@@ -117,6 +117,14 @@ pub fn read_centreline_as(
     // One bounded read (crate::input): regular files only, capped by the bytes actually read.
     let bytes = crate::input::read_bounded(path, MAX_FILE_BYTES, "centreline file").map_err(
         |e| match e {
+            crate::input::InputError::Bad { message, .. } if message.starts_with("is larger") => {
+                format_err(
+                    &what,
+                    format!(
+                        "is more than {MAX_FILE_BYTES} bytes; check reads centrelines of at most {MAX_FILE_BYTES} bytes ({MAX_POINTS} points)"
+                    ),
+                )
+            }
             crate::input::InputError::Bad { message, .. } => format_err(&what, message),
             other => io(other.to_string()),
         },
