@@ -10,8 +10,10 @@ use proptest::prelude::*;
 use std::sync::OnceLock;
 
 /// Two shards of a small real sweep (circle and clothoid at two speeds, coarse spacing).
-fn shards() -> &'static (Vec<(String, Vec<u8>)>, Vec<u8>) {
-    static SHARDS: OnceLock<(Vec<(String, Vec<u8>)>, Vec<u8>)> = OnceLock::new();
+type Shards = (Vec<(String, Vec<u8>)>, Vec<u8>);
+
+fn shards() -> &'static Shards {
+    static SHARDS: OnceLock<Shards> = OnceLock::new();
     SHARDS.get_or_init(|| {
         let (mut brief, _) = parse_sweep_file("spacing_m = 0.5").unwrap();
         brief.spacing_m = Some(0.5);
@@ -79,10 +81,10 @@ proptest! {
     #[test]
     fn sweep_files_never_panic_and_grids_stay_bounded(
         text in "(max_g = -?[0-9.e]{1,5}\n|spacing_m = 0\\.[1-9]\n|\\[sweep\\]\n|entry_speed = \"[0-9]{1,3}\\.\\.[0-9]{1,3}:[0-9]{1,6}( km/h)?\"\n|max_g = \"[0-9]\\.\\.[0-9]{1,2}:[0-9]{1,5}\"\n|shapes = \\[\"(circle|clothoid|spline|hex)\"\\]\n|min_top_g = [a-z0-9\"]{1,4}\n){0,7}") {
-        if let Ok((brief, sweep)) = parse_sweep_file(&text) {
-            if let Ok(spec) = SweepSpec::new(brief, &sweep) {
-                prop_assert!(!spec.is_empty() && spec.len() <= MAX_DESIGNS);
-            }
+        if let Ok((brief, sweep)) = parse_sweep_file(&text)
+            && let Ok(spec) = SweepSpec::new(brief, &sweep)
+        {
+            prop_assert!(!spec.is_empty() && spec.len() <= MAX_DESIGNS);
         }
     }
 

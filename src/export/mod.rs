@@ -70,10 +70,13 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
     write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
 }
 
+/// A file's name in its folder and its bytes.
+type NamedBytes = (String, Vec<u8>);
+
 /// Write files given by full path, each folder's files as one set ([`publish`]), in the order
 /// given (put a report last).
 pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError> {
-    let mut by_dir: Vec<(PathBuf, Vec<(String, Vec<u8>)>)> = Vec::new();
+    let mut by_dir: Vec<(PathBuf, Vec<NamedBytes>)> = Vec::new();
     for (path, bytes) in files {
         let dir = path
             .parent()
