@@ -2,7 +2,8 @@
 //!
 //! The binary in `main.rs` only calls [`main_with_args`]; everything else lives here so that tests
 //! can drive the commands in-process. Exit codes: 0 success, 2 usage error (bad flags, bad brief
-//! file or field), 3 infeasible brief (no loop meets the limits), 4 input/output error.
+//! file or field, any bad input file), 3 infeasible brief (no loop meets the limits), 4 input/output
+//! error (including standard output closed or full). Nothing here panics on a closed pipe.
 
 use clap::{Args, Parser, Subcommand};
 use std::path::{Path, PathBuf};
@@ -10,6 +11,7 @@ use std::path::{Path, PathBuf};
 use crate::brief::{Brief, BriefError, BriefInput, DEMO_BRIEF_TOML, SpeedText};
 use crate::checks::envelope::{EnvelopeTable, MAX_LIMITS_BYTES};
 use crate::export::{ExportError, write_design};
+use crate::input::{InputError, read_text_bounded};
 use crate::optimiser::{Infeasible, design};
 use crate::report::{infeasible_message, terminal_summary};
 
@@ -19,7 +21,8 @@ pub const EXIT_OK: i32 = 0;
 pub const EXIT_USAGE: i32 = 2;
 /// Exit code: the brief is valid but no loop meets its limits.
 pub const EXIT_INFEASIBLE: i32 = 3;
-/// Exit code: a file could not be read or written.
+/// Exit code: a file could not be read or written, or standard output could not be written (a
+/// closed pipe, a full disk).
 pub const EXIT_IO: i32 = 4;
 
 #[derive(Debug, Parser)]
@@ -222,33 +225,40 @@ impl From<BriefError> for CliError {
 
 impl From<ExportError> for CliError {
     fn from(e: ExportError) -> Self {
+        if let ExportError::NotAFolder { .. } = e {
+            return CliError::Usage(e.to_string());
+        }
+        // Only claim the earlier outputs are intact when nothing was replaced.
+        let earlier = if e.left_earlier_outputs() {
+            "earlier outputs were left as they were"
+        } else {
+            "run again to write a consistent set"
+        };
         CliError::Io(format!(
-            "{e}\nhint: check that the --out folder is writable and the disk has space; earlier outputs were left as they were"
+            "{e}\nhint: check that the --out folder is writable and the disk has space; {earlier}"
         ))
     }
 }
 
 /// Largest brief file we read; a brief is a few hundred bytes.
-const MAX_BRIEF_BYTES: u64 = 1 << 20;
+pub const MAX_BRIEF_BYTES: u64 = 1 << 20;
+
+impl From<InputError> for CliError {
+    fn from(e: InputError) -> Self {
+        if e.is_bad_input() {
+            CliError::Usage(e.to_string())
+        } else {
+            CliError::Io(e.to_string())
+        }
+    }
+}
 
 /// Read a brief file, or the demo brief when none is given (see [`BriefArgs::resolve`] for when
 /// the demo applies).
 pub fn read_brief_file(path: Option<&Path>) -> Result<BriefInput, CliError> {
     let text = match path {
         None => DEMO_BRIEF_TOML.to_string(),
-        Some(p) => {
-            let meta = std::fs::metadata(p)
-                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?;
-            if meta.len() > MAX_BRIEF_BYTES {
-                return Err(CliError::Usage(format!(
-                    "brief {} is {} bytes; a brief is a small TOML file (at most {MAX_BRIEF_BYTES} bytes)",
-                    p.display(),
-                    meta.len()
-                )));
-            }
-            std::fs::read_to_string(p)
-                .map_err(|e| CliError::Io(format!("cannot read brief {}: {e}", p.display())))?
-        }
+        Some(p) => read_text_bounded(p, MAX_BRIEF_BYTES, "brief")?,
     };
     BriefInput::from_toml(&text).map_err(|e| {
         let what = path.map_or("the demo brief".to_string(), |p| p.display().to_string());
@@ -333,21 +343,14 @@ pub fn attach_limits_table(brief: &mut Brief, brief_file: Option<&Path>) -> Resu
 /// Read and check a duration-based limit table (`--limits` / `limits_file`).
 pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
     // A missing table is a wrong argument (exit 2), like a missing brief field.
-    let meta = std::fs::metadata(path).map_err(|e| {
-        CliError::Usage(format!(
-            "cannot read limits file {}: {e}\nhint: check the path; a limits_file in a brief is taken from the brief's folder",
-            path.display()
-        ))
+    let text = read_text_bounded(path, MAX_LIMITS_BYTES, "limits file").map_err(|e| {
+        let hint =
+            "hint: check the path; a limits_file in a brief is taken from the brief's folder";
+        match CliError::from(e) {
+            CliError::Usage(m) => CliError::Usage(format!("{m}\n{hint}")),
+            other => other,
+        }
     })?;
-    if meta.len() > MAX_LIMITS_BYTES {
-        return Err(CliError::Usage(format!(
-            "limits file {} is {} bytes; a limit table is a small TOML file (at most {MAX_LIMITS_BYTES} bytes)",
-            path.display(),
-            meta.len()
-        )));
-    }
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| CliError::Io(format!("cannot read limits file {}: {e}", path.display())))?;
     EnvelopeTable::from_toml(&text).map_err(|e| {
         CliError::Usage(format!(
             "{}: {e}\nhint: see examples/limits-illustrative.toml for the format",
@@ -356,10 +359,48 @@ pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
     })
 }
 
+/// Work estimated to take longer than this, s, is announced before it starts and shows progress.
+pub const LONG_WORK_S: f64 = 180.0;
+
+/// A duration for people: seconds, minutes or hours.
+pub fn duration_text(s: f64) -> String {
+    if s < 120.0 {
+        format!("{s:.0} s")
+    } else if s < 7200.0 {
+        format!("{:.0} min", s / 60.0)
+    } else {
+        format!("{:.1} h", s / 3600.0)
+    }
+}
+
 /// Run `design`: returns the text for standard output.
 pub fn run_design(args: &DesignArgs) -> Result<String, CliError> {
     let brief = args.brief.resolve()?;
-    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)))?;
+    let estimate_s = crate::sweep::estimated_design_s(brief.shape, brief.spacing_m, brief.cars);
+    // Long work says so first and shows it is alive (a spinner with the elapsed time; the
+    // optimiser has no natural count to show).
+    let spinner = (estimate_s > LONG_WORK_S && !args.quiet).then(|| {
+        write_stderr(&format!(
+            "loopwright: this design ({} cars, {} m spacing) is estimated to take about {}\n",
+            brief.cars,
+            brief.spacing_m,
+            duration_text(estimate_s)
+        ));
+        let bar = indicatif::ProgressBar::new_spinner();
+        bar.set_message("designing");
+        if let Ok(style) =
+            indicatif::ProgressStyle::with_template("{spinner} {msg}, {elapsed} elapsed")
+        {
+            bar.set_style(style);
+        }
+        bar.enable_steady_tick(std::time::Duration::from_millis(200));
+        bar
+    });
+    let d = design(&brief).map_err(|e| CliError::Infeasible(Box::new(e)));
+    if let Some(bar) = spinner {
+        bar.finish_and_clear();
+    }
+    let d = d?;
     let written = write_design(&d, &args.out)?;
     if args.quiet {
         return Ok(String::new());
@@ -470,6 +511,9 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
         })?;
     let written = write_design(&checked, &args.out)?;
     let mut out = crate::report::check_summary(&checked);
+    if let Some(note) = mixed_set_note(&args.path) {
+        out.push_str(&note);
+    }
     out.push_str("wrote:\n");
     for p in written {
         out.push_str(&format!("  {}\n", p.display()));
@@ -478,6 +522,31 @@ pub fn run_check(args: &CheckArgs) -> Result<String, CliError> {
         return Err(CliError::Fails(out));
     }
     Ok(if args.quiet { String::new() } else { out })
+}
+
+/// A note when the checked file belongs to a loopwright output set (a JSON report beside it
+/// lists it) whose files do not match the report's SHA-256: a set mixed by an interrupted or
+/// concurrent run, or a file edited since. Not an error: checking an edited drawing is normal.
+fn mixed_set_note(path: &Path) -> Option<String> {
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path.file_name()?.to_string_lossy().into_owned();
+    // A design's files share its stem; its report is `<stem>.json`.
+    let stem = ["-loads.csv", "-cars.csv", ".dxf"]
+        .iter()
+        .find_map(|suffix| name.strip_suffix(suffix))?;
+    let report = dir.join(format!("{stem}.json"));
+    let bytes = crate::input::read_bounded(&report, 64 << 20, "report").ok()?;
+    let differ = crate::export::publish::verify_report(&report, &bytes);
+    (!differ.is_empty()).then(|| {
+        format!(
+            "note: {} differ from the SHA-256 listed in {}: the folder holds files of different runs, or edited files\n",
+            differ.join(", "),
+            report.display()
+        )
+    })
 }
 
 /// Run a parsed command.
@@ -508,17 +577,41 @@ where
         }
     };
     match run(&cli) {
-        Ok(text) => {
-            print!("{text}");
-            EXIT_OK
-        }
+        Ok(text) => match write_stdout(&text) {
+            Ok(()) => EXIT_OK,
+            Err(e) => {
+                // Standard output is gone (a closed pipe) or full: say so where we still can.
+                write_stderr(&format!("loopwright: cannot write standard output: {e}\n"));
+                EXIT_IO
+            }
+        },
         Err(e) => {
             match &e {
-                CliError::Infeasible(inf) => eprint!("loopwright: {}", infeasible_message(inf)),
-                CliError::Fails(report) => eprint!("{report}"),
-                other => eprintln!("loopwright: {other}"),
+                CliError::Infeasible(inf) => {
+                    write_stderr(&format!("loopwright: {}", infeasible_message(inf)))
+                }
+                CliError::Fails(report) => write_stderr(report),
+                other => write_stderr(&format!("loopwright: {other}\n")),
             }
             e.exit_code()
         }
     }
+}
+
+/// Write to standard output and flush, returning the error instead of panicking as `print!`
+/// does on a closed pipe or a full disk.
+pub fn write_stdout(text: &str) -> std::io::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())?;
+    out.flush()
+}
+
+/// Write to standard error; a failure is ignored, as there is nowhere left to report it (the
+/// exit code still says what happened).
+pub fn write_stderr(text: &str) {
+    use std::io::Write;
+    let mut err = std::io::stderr().lock();
+    let _ = err.write_all(text.as_bytes());
+    let _ = err.flush();
 }

@@ -37,6 +37,7 @@ pub mod dynamics;
 pub mod export;
 pub mod geometry;
 pub mod import;
+pub mod input;
 pub mod model;
 pub mod numeric;
 pub mod optimiser;

@@ -31,6 +31,28 @@ pub const MAX_AXIS_VALUES: usize = 10_000;
 /// Most designs one sweep may have (before sharding); a guard against a typo asking for billions.
 pub const MAX_DESIGNS: usize = 1_000_000;
 
+/// Most CPU time one sweep job (a whole grid or one shard) may be estimated to take, s: 8 hours
+/// (a working night on one machine; illustrative).
+/// Above it the grid is refused before it starts (split it into shards for an array job).
+pub const MAX_JOB_CPU_S: f64 = 8.0 * 3600.0;
+
+/// A rough estimate of the CPU seconds one design takes, for warnings and the ceiling, not a
+/// promise. Figures measured whole-process on the 2-core reference machine (issue 12: clothoid
+/// 32 ms, spline 225 ms per design; circle and profile measured here the same way, from memory of
+/// those runs) at the default 0.05 m spacing; the cost grows with the number of samples
+/// (1/spacing) and, for trains, with the square of the car count (measured here: 6, 12, 24 cars
+/// took 6.5, 24 and 88 times one car, fitted by 1 + 0.15 (cars² − 1)).
+pub fn estimated_design_s(kind: ShapeKind, spacing_m: f64, cars: usize) -> f64 {
+    let base_s = match kind {
+        ShapeKind::Circle => 0.02,
+        ShapeKind::Clothoid => 0.032,
+        ShapeKind::Spline => 0.225,
+        ShapeKind::Profile => 0.1,
+    };
+    let n = cars.max(1) as f64;
+    base_s * (0.05 / spacing_m.max(1e-3)) * (1.0 + 0.15 * (n * n - 1.0))
+}
+
 /// A sweep definition that cannot be used, and why.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[error("sweep {field}: {message}")]
@@ -51,7 +73,10 @@ fn number(field: &str, whole: &str, text: &str) -> Result<f64, SweepError> {
         err(field, format!("'{whole}': '{text}' is not a number; write START..END:COUNT (e.g. 20..30:11) or one value"))
     })?;
     if !v.is_finite() {
-        return Err(err(field, format!("'{whole}': {v} is not a finite number")));
+        return Err(err(
+            field,
+            format!("'{whole}': {} is not a finite number", crate::brief::eng(v)),
+        ));
     }
     Ok(v)
 }
@@ -150,11 +175,25 @@ pub fn parse_shapes(text: &str) -> Result<Vec<ShapeKind>, SweepError> {
 }
 
 /// A value as written in a `[sweep]` table: a number or a range string.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum AxisText {
     Number(f64),
     Text(String),
+}
+
+impl<'de> Deserialize<'de> for AxisText {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Ok(
+            match crate::brief::number_or_text(
+                d,
+                "one number or a range text START..END:COUNT such as \"20..30:11\"",
+            )? {
+                Ok(v) => AxisText::Number(v),
+                Err(t) => AxisText::Text(t),
+            },
+        )
+    }
 }
 
 impl AxisText {
@@ -192,17 +231,37 @@ impl SweepInput {
 /// Split a sweep file into its brief fields and its `[sweep]` table. A plain brief (no table) is a
 /// valid sweep file too.
 pub fn parse_sweep_file(text: &str) -> Result<(BriefInput, SweepInput), SweepError> {
-    let mut table: toml::Table = toml::from_str(text)
-        .map_err(|e| err("(file)", format!("not valid TOML: {}", e.message())))?;
-    let sweep = match table.remove("sweep") {
-        None => SweepInput::default(),
-        Some(v) => v
-            .try_into()
-            .map_err(|e: toml::de::Error| err("[sweep]", e.message().to_string()))?,
+    use crate::brief::toml_error;
+    let mut table: toml::Table = toml::from_str(text).map_err(|e| {
+        err(
+            "(file)",
+            format!("not valid TOML: {}", toml_error(text, &e)),
+        )
+    })?;
+    // Errors are taken from a parse of the text itself where possible, so that they carry the
+    // line and column (a detached value has none).
+    #[derive(Deserialize)]
+    struct SweepOnly {
+        sweep: Option<SweepInput>,
+    }
+    let sweep = match toml::from_str::<SweepOnly>(text) {
+        Ok(s) => s.sweep.unwrap_or_default(),
+        Err(e) => return Err(err("[sweep]", toml_error(text, &e))),
     };
-    let brief: BriefInput = toml::Value::Table(table)
-        .try_into()
-        .map_err(|e: toml::de::Error| err("(brief fields)", e.message().to_string()))?;
+    table.remove("sweep");
+    let brief: BriefInput =
+        toml::Value::Table(table)
+            .try_into()
+            .map_err(|e: toml::de::Error| {
+                // The same fields parsed from the text locate the error, unless the parse stops first
+                // at the `sweep` key a brief does not know.
+                match toml::from_str::<BriefInput>(text) {
+                    Err(located) if !located.message().contains("`sweep`") => {
+                        err("(brief fields)", toml_error(text, &located))
+                    }
+                    _ => err("(brief fields)", toml_error(text, &e)),
+                }
+            })?;
     Ok((brief, sweep))
 }
 
@@ -310,6 +369,21 @@ impl SweepSpec {
         }
     }
 
+    /// Estimated CPU seconds of the designs `shard` runs (all without a shard); see
+    /// [`estimated_design_s`].
+    pub fn estimated_cpu_s(&self, shard: Option<Shard>) -> f64 {
+        let per_family = self.len() / self.shapes.len().max(1);
+        let share = shard.map_or(1.0, |s| 1.0 / s.count as f64);
+        self.shapes
+            .iter()
+            .map(|&k| {
+                estimated_design_s(k, self.base_brief.spacing_m, self.base_brief.cars)
+                    * per_family as f64
+                    * share
+            })
+            .sum()
+    }
+
     /// Number of designs in the whole grid.
     pub fn len(&self) -> usize {
         self.shapes.len() * self.max_g.len() * self.min_top_g.len() * self.entry_speed_m_s.len()
@@ -400,7 +474,15 @@ pub enum SweepSetupError {
 }
 
 fn axis_value_error(field: &str, v: f64, e: BriefError) -> SweepSetupError {
-    err(field, format!("value {v} cannot be used: {}", e.message)).into()
+    err(
+        field,
+        format!(
+            "value {} cannot be used: {}",
+            crate::brief::eng(v),
+            e.message
+        ),
+    )
+    .into()
 }
 
 /// Which part of a grid one job runs: grid indices with `index % count == number − 1`.

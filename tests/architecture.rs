@@ -6,6 +6,7 @@ use std::path::{Path, PathBuf};
 
 /// The flow, first to last. A module may use itself and the ones before it.
 const FLOW: &[&str] = &[
+    "input",
     "units",
     "numeric",
     "brief",

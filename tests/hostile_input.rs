@@ -95,7 +95,7 @@ fn bad_brief_files_are_usage_errors() {
     let p = write(dir.path(), "huge.toml", &big);
     let (code, out) = run(&["design", &p], dir.path());
     assert_eq!(code, 2, "{out}");
-    assert!(out.contains("small TOML file"), "{out}");
+    assert!(out.contains("larger than 1048576 bytes"), "{out}");
     // A missing file is an I/O error.
     let (code, out) = run(&["design", "no-such-brief.toml"], dir.path());
     assert_eq!(code, 4, "{out}");

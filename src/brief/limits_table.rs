@@ -108,7 +108,10 @@ impl EnvelopeTable {
         let t: EnvelopeTable = toml::from_str(text).map_err(|e| {
             bad(
                 "(file)".into(),
-                format!("not a valid limits table: {}", e.message()),
+                format!(
+                    "not a valid limits table: {}",
+                    crate::brief::toml_error(text, &e)
+                ),
             )
         })?;
         t.validate()?;

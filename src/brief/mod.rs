@@ -17,7 +17,10 @@
 //! ```
 
 pub mod limits_table;
+mod messages;
 mod profile;
+
+pub use messages::{eng, number_or_text, toml_error};
 
 pub use profile::{MAX_PROFILE_POINTS, PROFILE_LOAD_RANGE_G, ProfileInput, ProfileSpec};
 
@@ -93,13 +96,27 @@ pub enum Objective {
 }
 
 /// A speed as written in TOML: a number (m/s) or a string with a unit.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum SpeedText {
     /// Metres per second.
     Number(f64),
     /// A number with a unit suffix: m/s, km/h or mph.
     Text(String),
+}
+
+impl<'de> Deserialize<'de> for SpeedText {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        Ok(
+            match number_or_text(
+                d,
+                "a speed: a number in m/s or text with a unit such as \"90 km/h\"",
+            )? {
+                Ok(v) => SpeedText::Number(v),
+                Err(t) => SpeedText::Text(t),
+            },
+        )
+    }
 }
 
 /// A brief as the user wrote it: every field optional.
@@ -253,13 +270,23 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
     if !value.is_finite() {
         return Err(err(
             field,
-            format!("{value} is not a finite number; give a value from {lo} to {hi} {unit}"),
+            format!(
+                "{} is not a finite number; give a value from {} to {} {unit}",
+                eng(value),
+                eng(lo),
+                eng(hi)
+            ),
         ));
     }
     if value < lo || value > hi {
         return Err(err(
             field,
-            format!("{value} {unit} is out of range; allowed {lo} to {hi} {unit}"),
+            format!(
+                "{} {unit} is out of range; allowed {} to {} {unit}",
+                eng(value),
+                eng(lo),
+                eng(hi)
+            ),
         ));
     }
     Ok(value)
@@ -267,16 +294,9 @@ fn in_range(field: &str, value: f64, lo: f64, hi: f64, unit: &str) -> Result<f64
 
 /// Serde: an optional limit in a brief file, a number or one of the off words (as +∞).
 fn limit_or_off<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
-    #[derive(Deserialize)]
-    #[serde(untagged)]
-    enum NumberOrWord {
-        Number(f64),
-        Word(String),
-    }
-    match Option::<NumberOrWord>::deserialize(d)? {
-        None => Ok(None),
-        Some(NumberOrWord::Number(v)) => Ok(Some(v)),
-        Some(NumberOrWord::Word(w)) => parse_limit_or_off(&w)
+    match number_or_text(d, "a number, or \"none\" (also off, inf) for no limit")? {
+        Ok(v) => Ok(Some(v)),
+        Err(w) => parse_limit_or_off(&w)
             .map(Some)
             .map_err(serde::de::Error::custom),
     }
@@ -305,8 +325,12 @@ fn optional_cap(
 impl BriefInput {
     /// Parse TOML text; unknown fields are an error (a typo must not be ignored silently).
     pub fn from_toml(text: &str) -> Result<Self, BriefError> {
-        toml::from_str(text)
-            .map_err(|e| err("(file)", format!("not a valid brief: {}", e.message())))
+        toml::from_str(text).map_err(|e| {
+            err(
+                "(file)",
+                format!("not a valid brief: {}", toml_error(text, &e)),
+            )
+        })
     }
 
     /// Fields set in `over` replace those in `self` (flags over a file).

@@ -102,9 +102,9 @@ pub fn run_evaluate(args: &EvaluateArgs) -> Result<String, CliError> {
     }
     if !a.pass() {
         if args.json {
-            print!("{out}");
-            // The process exits with a code right after: flush what the script reads.
-            let _ = std::io::Write::flush(&mut std::io::stdout());
+            // The process exits with a code right after: written and flushed here; a closed
+            // pipe is not an error worth hiding the failing limit for.
+            let _ = super::write_stdout(&out);
             return Err(CliError::Fails(
                 "loopwright evaluate: a limit fails (see \"checks\" in the JSON)\n".into(),
             ));

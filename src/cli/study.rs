@@ -14,6 +14,7 @@ use super::{BriefArgs, CliError};
 use crate::brief::{BriefInput, DEMO_BRIEF_TOML, ShapeKind};
 use crate::compare::compare;
 use crate::export::{ExportError, overlay, study, write_atomic};
+use crate::input::{read_bounded, read_text_bounded};
 use crate::report::compare_table;
 use crate::sweep::{self, AxisText, Shard, SweepInput, SweepSpec};
 
@@ -98,14 +99,15 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     let mut flags = args.brief.clone();
     let kinds = match flags.shape.take() {
         None => ShapeKind::ALL.to_vec(),
-        Some(list) => sweep::parse_shapes(&list).map_err(|e| CliError::Usage(e.to_string()))?,
+        // Named as the brief field it is, not as a sweep axis.
+        Some(list) => sweep::parse_shapes(&list)
+            .map_err(|e| CliError::Usage(format!("brief field 'shape': {}", e.message)))?,
     };
     let brief = flags.resolve()?;
     let c = compare(&brief, &kinds);
     let name = &brief.name;
-    let files = vec![
+    let mut files = vec![
         (format!("{name}-compare.csv"), study::compare_csv(&c)?),
-        (format!("{name}-compare.json"), study::compare_json(&c)?),
         (
             format!("{name}-compare-elevation.svg"),
             overlay::elevation_overlay_svg(&c).into_bytes(),
@@ -115,6 +117,9 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
             overlay::loads_overlay_svg(&c).into_bytes(),
         ),
     ];
+    // The report last, with its siblings' digests (see `export::publish`).
+    let report = study::compare_json_with(&c, crate::export::publish::digests(&files))?;
+    files.push((format!("{name}-compare.json"), report));
     let written = write_files(&args.out, files)?;
     let text = if args.quiet {
         String::new()
@@ -123,7 +128,7 @@ pub fn run_compare(args: &CompareArgs) -> Result<String, CliError> {
     };
     if c.feasible_count() == 0 {
         // Nothing meets the brief: still show the table (it says why, family by family).
-        print!("{text}");
+        let _ = super::write_stdout(&text);
         let first = c.entries.into_iter().find_map(|e| e.result.err());
         return match first {
             Some(inf) => Err(CliError::Infeasible(Box::new(inf))),
@@ -139,20 +144,7 @@ const MAX_SWEEP_FILE_BYTES: u64 = 1 << 20;
 fn read_sweep_file(path: Option<&Path>) -> Result<(BriefInput, SweepInput), CliError> {
     let text = match path {
         None => DEMO_BRIEF_TOML.to_string(),
-        Some(p) => {
-            let meta = std::fs::metadata(p).map_err(|e| {
-                CliError::Io(format!("cannot read sweep file {}: {e}", p.display()))
-            })?;
-            if meta.len() > MAX_SWEEP_FILE_BYTES {
-                return Err(CliError::Usage(format!(
-                    "sweep file {} is {} bytes; a sweep file is a small TOML file (at most {MAX_SWEEP_FILE_BYTES} bytes)",
-                    p.display(),
-                    meta.len()
-                )));
-            }
-            std::fs::read_to_string(p)
-                .map_err(|e| CliError::Io(format!("cannot read sweep file {}: {e}", p.display())))?
-        }
+        Some(p) => read_text_bounded(p, MAX_SWEEP_FILE_BYTES, "sweep file")?,
     };
     let what = path.map_or("the demo brief".to_string(), |p| p.display().to_string());
     sweep::parse_sweep_file(&text).map_err(|e| CliError::Usage(format!("{what}: {e}")))
@@ -240,6 +232,22 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
     let total = (0..spec.len())
         .filter(|&i| shard.is_none_or(|s| s.contains(i)))
         .count();
+    let cpu_s = spec.estimated_cpu_s(shard);
+    if cpu_s > sweep::MAX_JOB_CPU_S {
+        return Err(CliError::Usage(format!(
+            "this sweep of {total} designs would take about {} hours of CPU (estimate), more than the ceiling of {} hours for one job\nhint: use fewer values, a coarser --spacing, or split it with --shard I/N across machines",
+            (cpu_s / 3600.0).round(),
+            sweep::MAX_JOB_CPU_S / 3600.0
+        )));
+    }
+    let wall_s = cpu_s / pool.current_num_threads() as f64;
+    if wall_s > super::LONG_WORK_S && !args.quiet {
+        super::write_stderr(&format!(
+            "loopwright: {total} designs, estimated {} on {} threads; progress below\n",
+            super::duration_text(wall_s),
+            pool.current_num_threads()
+        ));
+    }
     let bar = progress_bar(total, args.quiet);
     let started = Instant::now();
     let rows = pool.install(|| sweep::run(&spec, shard, &|| bar.inc(1)));
@@ -286,12 +294,15 @@ pub fn run_sweep(args: &SweepArgs) -> Result<String, CliError> {
     ))
 }
 
+/// Largest shard CSV we read: a million rows of the sweep table are about 250 MB; a shard holds a
+/// part of a sweep of at most [`sweep::MAX_DESIGNS`] designs.
+pub const MAX_SHARD_BYTES: u64 = 512 << 20;
+
 /// Run `merge`.
 pub fn run_merge(args: &MergeArgs) -> Result<String, CliError> {
     let mut shards = Vec::new();
     for p in &args.shards {
-        let bytes = std::fs::read(p)
-            .map_err(|e| CliError::Io(format!("cannot read shard {}: {e}", p.display())))?;
+        let bytes = read_bounded(p, MAX_SHARD_BYTES, "shard")?;
         shards.push((p.display().to_string(), bytes));
     }
     let merged = study::merge_sweep_csv(&shards).map_err(|e| CliError::Usage(e.to_string()))?;

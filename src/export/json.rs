@@ -3,6 +3,7 @@
 use serde::Serialize;
 
 use super::ExportError;
+use super::publish::OutputDigest;
 use crate::brief::Brief;
 use crate::checks::envelope::EnvelopeReport;
 use crate::checks::limits::{DESIGN_MARGIN, DesignMargin};
@@ -71,6 +72,10 @@ pub struct Report<'a> {
     /// For a centreline read from a drawing (`check`): the file, what was read and the fit.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub drawing: Option<DrawingReport<'a>>,
+    /// The files written with this report (every sibling's size and SHA-256): a set in which a
+    /// file does not match was not written by one run. Absent when the report stands alone.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub outputs: Vec<OutputDigest>,
 }
 
 /// Where a checked centreline came from and how it was fitted.
@@ -140,12 +145,23 @@ pub fn report(d: &Assessment) -> Report<'_> {
             }),
             Origin::Family { .. } => None,
         },
+        outputs: Vec::new(),
     }
 }
 
 /// Pretty-printed JSON bytes of the report.
 pub fn report_json(d: &Assessment) -> Result<Vec<u8>, ExportError> {
-    let mut v = serde_json::to_vec_pretty(&report(d)).map_err(|e| ExportError::Encode {
+    report_json_with(d, Vec::new())
+}
+
+/// The report listing the files written with it (see [`Report::outputs`]).
+pub fn report_json_with(
+    d: &Assessment,
+    outputs: Vec<OutputDigest>,
+) -> Result<Vec<u8>, ExportError> {
+    let mut r = report(d);
+    r.outputs = outputs;
+    let mut v = serde_json::to_vec_pretty(&r).map_err(|e| ExportError::Encode {
         what: "JSON report",
         message: e.to_string(),
     })?;

@@ -1,7 +1,8 @@
-//! Exports: the files a design run writes, each written atomically.
+//! Exports: the files a run writes, published together as one unit.
 //!
-//! Every file goes to a temporary file in the destination folder and is renamed over the target
-//! only once complete, so a run that fails midway leaves earlier outputs intact.
+//! Every run's files are staged in full, then published under a lock on the output folder, the
+//! report last, with a journal that lets the next run complete a publication a kill interrupted
+//! ([`publish`]). A run that fails before publishing leaves the earlier set as it was.
 //!
 //! Files, for a design named `<name>`:
 //! - `<name>.dxf`: rail centreline and heartline as 3D polylines on their own layers ([`dxf`]);
@@ -23,11 +24,11 @@ pub mod dxf;
 pub mod json;
 pub mod overlay;
 pub mod plot;
+pub mod publish;
 pub mod study;
 pub mod svg;
 pub mod table;
 
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use crate::model::Assessment;
@@ -42,62 +43,61 @@ pub enum ExportError {
     },
     #[error("cannot encode {what}: {message}")]
     Encode { what: &'static str, message: String },
+    /// Publishing failed after some files were replaced: the folder holds a mixed set.
+    #[error(
+        "cannot write {path}: {source}; {replaced} of {total} files had already been replaced, so the folder holds a mixed set (the report's sha256 list shows which files are new)"
+    )]
+    Partial {
+        path: PathBuf,
+        replaced: usize,
+        total: usize,
+        source: std::io::Error,
+    },
+    /// The output path is not usable as given (a file where a folder is wanted).
+    #[error("--out {path} {message}")]
+    NotAFolder { path: PathBuf, message: String },
 }
 
-/// Write `bytes` to `path` atomically: a temporary file in the same folder, then a rename.
+impl ExportError {
+    /// Whether the earlier outputs are as they were (nothing was replaced).
+    pub fn left_earlier_outputs(&self) -> bool {
+        !matches!(self, ExportError::Partial { .. })
+    }
+}
+
+/// Write `bytes` to `path` as a set of one ([`publish`]).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), ExportError> {
     write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
 }
 
-fn staged(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, ExportError> {
-    let io = |source| ExportError::Io {
-        path: path.to_path_buf(),
-        source,
-    };
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".loopwright-")
-        .suffix(".tmp")
-        .tempfile_in(dir)
-        .map_err(io)?;
-    tmp.write_all(bytes).map_err(io)?;
-    // Temporary files are created private (0600); outputs are ordinary documents for a team.
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        tmp.as_file()
-            .set_permissions(std::fs::Permissions::from_mode(0o644))
-            .map_err(io)?;
-    }
-    tmp.as_file().sync_all().map_err(io)?;
-    Ok(tmp)
-}
+/// A file's name in its folder and its bytes.
+type NamedBytes = (String, Vec<u8>);
 
-/// Write several files as one step: every file is first written in full to a temporary file beside
-/// its target (a full disk or unwritable folder fails here, and the temporaries are removed), the
-/// targets are checked to be replaceable, and only then is each renamed over its target. A run that
-/// fails therefore leaves every earlier output as it was.
+/// Write files given by full path, each folder's files as one set ([`publish`]), in the order
+/// given (put a report last).
 pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<(), ExportError> {
-    let mut temps = Vec::with_capacity(files.len());
+    let mut by_dir: Vec<(PathBuf, Vec<NamedBytes>)> = Vec::new();
     for (path, bytes) in files {
-        temps.push((path, staged(path, bytes)?));
-    }
-    for (path, _) in &temps {
-        if path.is_dir() {
-            return Err(ExportError::Io {
-                path: path.to_path_buf(),
-                source: std::io::Error::other("a folder of that name is in the way"),
-            });
+        let dir = path
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."))
+            .to_path_buf();
+        let name = path
+            .file_name()
+            .ok_or_else(|| ExportError::NotAFolder {
+                path: path.clone(),
+                message: "names no file".into(),
+            })?
+            .to_string_lossy()
+            .into_owned();
+        match by_dir.iter_mut().find(|(d, _)| *d == dir) {
+            Some((_, list)) => list.push((name, bytes.clone())),
+            None => by_dir.push((dir, vec![(name, bytes.clone())])),
         }
     }
-    for (path, tmp) in temps {
-        tmp.persist(path).map_err(|e| ExportError::Io {
-            path: path.to_path_buf(),
-            source: e.error,
-        })?;
+    for (dir, list) in by_dir {
+        publish::publish(&dir, &list)?;
     }
     Ok(())
 }
@@ -114,41 +114,44 @@ pub fn design_files(design: &Assessment) -> Result<Vec<(String, Vec<u8>)>, Expor
                 svg::elevation_svg(design).into_bytes(),
                 plot::loads_svg(design).into_bytes(),
                 table::loads_csv(design)?,
-                json::report_json(design)?,
             ))
         },
     );
-    let (elevation, loads_plot, csv_bytes, json_bytes) = rest?;
+    let (elevation, loads_plot, csv_bytes) = rest?;
     let mut files = vec![
         (format!("{name}.dxf"), dxf_bytes?),
         (format!("{name}.svg"), elevation),
         (format!("{name}-loads.svg"), loads_plot),
         (format!("{name}-loads.csv"), csv_bytes),
-        (format!("{name}.json"), json_bytes),
     ];
     // One car is the point mass: its loads are the loads table already.
     if design.best.train.cars.len() > 1 {
         files.push((format!("{name}-cars.csv"), table::cars_csv(design)?));
     }
+    // The report goes last and carries every sibling's SHA-256 (see [`publish`]).
+    let report = json::report_json_with(design, publish::digests(&files))?;
+    files.push((format!("{name}.json"), report));
     Ok(files)
 }
 
-/// Write already-encoded files into `out_dir` (created if missing) as one atomic step
-/// ([`write_all_atomic`]): a failed run leaves every earlier output as it was.
+/// Write already-encoded files into `out_dir` (created if missing) as one unit ([`publish`]);
+/// the report, if any, is last in `files`.
 pub fn write_files(
     files: Vec<(String, Vec<u8>)>,
     out_dir: &Path,
 ) -> Result<Vec<PathBuf>, ExportError> {
+    if out_dir.exists() && !out_dir.is_dir() {
+        return Err(ExportError::NotAFolder {
+            path: out_dir.to_path_buf(),
+            message: "is a file, not a folder; --out names the folder the outputs go into (several files): give a new or existing folder".into(),
+        });
+    }
     std::fs::create_dir_all(out_dir).map_err(|source| ExportError::Io {
         path: out_dir.to_path_buf(),
         source,
     })?;
-    let files: Vec<(PathBuf, Vec<u8>)> = files
-        .into_iter()
-        .map(|(n, b)| (out_dir.join(n), b))
-        .collect();
-    write_all_atomic(&files)?;
-    Ok(files.into_iter().map(|(p, _)| p).collect())
+    publish::publish(out_dir, &files)?;
+    Ok(files.into_iter().map(|(n, _)| out_dir.join(n)).collect())
 }
 
 /// Encode and write every output of a design into `out_dir` (created if missing).

@@ -9,6 +9,7 @@
 use serde::Serialize;
 
 use super::ExportError;
+use super::publish::OutputDigest;
 use crate::brief::Brief;
 use crate::compare::{Comparison, Entry, KeyFigures};
 use crate::report::CAUTION;
@@ -139,10 +140,21 @@ pub struct CompareJson<'a> {
     pub caution: &'static str,
     pub brief: &'a Brief,
     pub families: Vec<CompareJsonEntry>,
+    /// The files written with this report, with their SHA-256 (absent when it stands alone).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub outputs: Vec<OutputDigest>,
 }
 
 /// Pretty-printed JSON of a comparison.
 pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
+    compare_json_with(c, Vec::new())
+}
+
+/// The compare JSON listing the files written with it.
+pub fn compare_json_with(
+    c: &Comparison,
+    outputs: Vec<OutputDigest>,
+) -> Result<Vec<u8>, ExportError> {
     let families = c
         .entries
         .iter()
@@ -166,6 +178,7 @@ pub fn compare_json(c: &Comparison) -> Result<Vec<u8>, ExportError> {
         caution: CAUTION,
         brief: &c.brief,
         families,
+        outputs,
     };
     let mut v = serde_json::to_vec_pretty(&doc).map_err(|e| ExportError::Encode {
         what: "compare JSON",
@@ -191,8 +204,23 @@ pub const SWEEP_KEY_COLUMNS: [&str; 8] = [
 pub fn sweep_header() -> Vec<&'static str> {
     let mut h = SWEEP_KEY_COLUMNS.to_vec();
     h.extend(FIGURE_COLUMNS);
-    h.push("reason");
+    h.extend(["reason", "row_sha256"]);
     h
+}
+
+/// The digest a sweep row carries in its last column: the first 16 hex digits of the SHA-256 of
+/// its other fields (sweep id included) joined by the unit separator. `merge` recomputes it, so a
+/// shard edited, damaged or truncated inside a row is refused naming the row. It detects damage
+/// and edits, not deliberate forgery (anyone can recompute it).
+pub fn row_digest<'a>(fields: impl IntoIterator<Item = &'a str>) -> String {
+    let mut joined = String::new();
+    for (i, f) in fields.into_iter().enumerate() {
+        if i > 0 {
+            joined.push('\u{1f}');
+        }
+        joined.push_str(f);
+    }
+    super::publish::sha256_hex(joined.as_bytes())[..16].to_string()
 }
 
 /// The sweep CSV: one row per design in `rows` (already in grid order), for a grid of `designs`
@@ -219,6 +247,7 @@ pub fn sweep_csv(
         ];
         rec.extend(figure_cells(r.result.as_ref().ok()));
         rec.push(r.result.as_ref().err().cloned().unwrap_or_default());
+        rec.push(row_digest(rec.iter().map(String::as_str)));
         w.write_record(&rec).map_err(&enc)?;
     }
     w.into_inner().map_err(|e| ExportError::Encode {
@@ -261,6 +290,14 @@ pub fn merge_sweep_csv(shards: &[(String, Vec<u8>)]) -> Result<Vec<u8>, MergeErr
         }
         for (line, rec) in r.records().enumerate() {
             let rec = rec.map_err(|e| bad(format!("row {}: {e}", line + 1)))?;
+            let last = rec.len() - 1;
+            if row_digest(rec.iter().take(last)) != rec[last] {
+                return Err(bad(format!(
+                    "row {} (design '{}'): its fields do not match its row_sha256; the shard was edited, damaged or cut short — run that shard again",
+                    line + 1,
+                    &rec[0]
+                )));
+            }
             let index: usize = rec[0].parse().map_err(|_| {
                 bad(format!(
                     "row {}: design '{}' is not an index",

@@ -101,6 +101,14 @@ pub(super) fn spline_points(s: &Spline) -> Result<Vec<Vector3<f64>>, String> {
         return Err("the knot vector spans no parameter range".into());
     }
     let spans = ctrl.len() - p;
+    // n intervals give n + 1 points: refuse by the span count, so the message names what the
+    // file holds rather than a point count one over the limit.
+    let max_spans = (MAX_POINTS - 1) / SAMPLES_PER_SPAN;
+    if spans > max_spans {
+        return Err(format!(
+            "has {spans} spans; at most {max_spans} are read ({SAMPLES_PER_SPAN} points per span, at most {MAX_POINTS} points)"
+        ));
+    }
     let n = (spans * SAMPLES_PER_SPAN).clamp(2, MAX_POINTS);
     // Uniform parameters plus every interior knot, so a sample falls exactly on each joint (where
     // a spline written in pieces may change curvature).

@@ -118,18 +118,23 @@ pub fn read_centreline_as(
         path: path.to_path_buf(),
         message,
     };
-    let meta = std::fs::metadata(path).map_err(|e| io(e.to_string()))?;
     let what = path.display().to_string();
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(format_err(
-            &what,
-            format!(
-                "is {} bytes; check reads centrelines of at most {MAX_FILE_BYTES} bytes ({MAX_POINTS} points)",
-                meta.len()
-            ),
-        ));
-    }
-    if meta.len() == 0 {
+    // One bounded read (crate::input): regular files only, capped by the bytes actually read.
+    let bytes = crate::input::read_bounded(path, MAX_FILE_BYTES, "centreline file").map_err(
+        |e| match e {
+            crate::input::InputError::Bad { message, .. } if message.starts_with("is larger") => {
+                format_err(
+                    &what,
+                    format!(
+                        "is more than {MAX_FILE_BYTES} bytes; check reads centrelines of at most {MAX_FILE_BYTES} bytes ({MAX_POINTS} points)"
+                    ),
+                )
+            }
+            crate::input::InputError::Bad { message, .. } => format_err(&what, message),
+            other => io(other.to_string()),
+        },
+    )?;
+    if bytes.is_empty() {
         return Err(format_err(
             &what,
             "is empty; give a DXF with a polyline or spline, or a CSV of x,y,z points",
@@ -139,7 +144,6 @@ pub fn read_centreline_as(
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("dxf"));
     if is_dxf {
-        let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
         let c = parse_dxf_bytes(&bytes, layer, wanted, &what)?;
         match (wanted, c.points_are) {
             (Some(w), Some(said)) if w != said => {
@@ -164,7 +168,6 @@ pub fn read_centreline_as(
                 "--layer applies to DXF files only; this file is read as CSV",
             ));
         }
-        let bytes = std::fs::read(path).map_err(|e| io(e.to_string()))?;
         let text = String::from_utf8(bytes).map_err(|_| {
             format_err(
                 &what,
