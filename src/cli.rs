@@ -346,8 +346,12 @@ pub fn read_limits_file(path: &Path) -> Result<EnvelopeTable, CliError> {
     let text = read_text_bounded(path, MAX_LIMITS_BYTES, "limits file").map_err(|e| {
         let hint =
             "hint: check the path; a limits_file in a brief is taken from the brief's folder";
+        // A missing table is a wrong argument (exit 2), like a missing brief field.
+        let missing = matches!(&e, InputError::Io { source, .. }
+            if source.kind() == std::io::ErrorKind::NotFound);
         match CliError::from(e) {
             CliError::Usage(m) => CliError::Usage(format!("{m}\n{hint}")),
+            CliError::Io(m) if missing => CliError::Usage(format!("{m}\n{hint}")),
             other => other,
         }
     })?;
