@@ -20,6 +20,7 @@ const FLOW: &[&str] = &[
     "sweep",
     "report",
     "export",
+    "serve",
     "cli",
 ];
 
