@@ -40,7 +40,8 @@ const FIGURES = [
 ];
 
 const $ = (id) => document.getElementById(id);
-const state = { designSeq: 0, compareSeq: 0, pending: 0, timer: null };
+// queued: an edit waits for the debounce; the tests wait on these to know the page has settled.
+const state = { designSeq: 0, compareSeq: 0, pending: 0, timer: null, queued: false };
 
 function fmt(v, digits = 3) {
   return typeof v === "number" && isFinite(v) ? v.toFixed(digits) : (v === null ? "unbounded" : String(v));
@@ -92,10 +93,12 @@ async function post(path, body) {
 
 function schedule() {
   clearTimeout(state.timer);
+  state.queued = true;
   state.timer = setTimeout(update, 250);
 }
 
 function update() {
+  state.queued = false;
   const req = briefRequest();
   const ds = ++state.designSeq;
   post("/api/design", { seq: ds, ...req }).then((a) => {
