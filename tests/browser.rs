@@ -45,8 +45,7 @@ fn start_server() -> (Server, String) {
 
 fn browser_present() -> Result<(), String> {
     let chromium = std::env::var("LOOPWRIGHT_CHROMIUM").unwrap_or("/usr/bin/chromium".into());
-    let driver =
-        std::env::var("LOOPWRIGHT_CHROMEDRIVER").unwrap_or("/usr/bin/chromedriver".into());
+    let driver = std::env::var("LOOPWRIGHT_CHROMEDRIVER").unwrap_or("/usr/bin/chromedriver".into());
     for p in [&chromium, &driver] {
         if !Path::new(p).exists() {
             return Err(format!(
@@ -103,6 +102,9 @@ fn study_page_in_chromium_matches_the_command_line() {
         "study-page-sweep.png",
     ] {
         let len = std::fs::metadata(gallery.join(shot)).map_or(0, |m| m.len());
-        assert!(len > 10_000, "screenshot {shot} missing or empty ({len} bytes)");
+        assert!(
+            len > 10_000,
+            "screenshot {shot} missing or empty ({len} bytes)"
+        );
     }
 }

@@ -138,10 +138,16 @@ pub fn design_answer(req: &StudyRequest) -> Answer {
 
 /// The names [`design_files`] gives a design's files (the page lists them before asking for one).
 fn file_names(name: &str, cars: usize) -> Vec<String> {
-    let mut v: Vec<String> = ["{}.dxf", "{}.svg", "{}-loads.svg", "{}-loads.csv", "{}.json"]
-        .iter()
-        .map(|p| p.replace("{}", name))
-        .collect();
+    let mut v: Vec<String> = [
+        "{}.dxf",
+        "{}.svg",
+        "{}-loads.svg",
+        "{}-loads.csv",
+        "{}.json",
+    ]
+    .iter()
+    .map(|p| p.replace("{}", name))
+    .collect();
     if cars > 1 {
         v.push(format!("{name}-cars.csv"));
     }
@@ -199,15 +205,12 @@ pub fn file_answer(req: &StudyRequest) -> Answer {
         })?;
         let files = design_files(&d).map_err(|e| Refused(e.to_string()))?;
         let names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
-        files
-            .into_iter()
-            .find(|(n, _)| n == wanted)
-            .ok_or_else(|| {
-                Refused(format!(
-                    "this design has no file '{wanted}'; it has {}",
-                    names.join(", ")
-                ))
-            })
+        files.into_iter().find(|(n, _)| n == wanted).ok_or_else(|| {
+            Refused(format!(
+                "this design has no file '{wanted}'; it has {}",
+                names.join(", ")
+            ))
+        })
     })();
     match out {
         Ok((name, bytes)) => Answer {

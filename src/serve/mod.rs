@@ -37,7 +37,9 @@ const PAGE_CSS: &str = include_str!("page.css");
 pub enum ServeError {
     #[error("--bind '{0}' is not an IP address (e.g. 127.0.0.1 or ::1)")]
     BadAddress(String),
-    #[error("cannot listen on {addr}: {message}\nhint: choose another --port, or 0 for any free port")]
+    #[error(
+        "cannot listen on {addr}: {message}\nhint: choose another --port, or 0 for any free port"
+    )]
     Listen { addr: SocketAddr, message: String },
 }
 
@@ -57,10 +59,7 @@ pub fn run(bind: &str, port: u16) -> Result<(), ServeError> {
         addr,
         message: e.to_string(),
     })?;
-    let actual = server
-        .server_addr()
-        .to_ip()
-        .unwrap_or(addr);
+    let actual = server.server_addr().to_ip().unwrap_or(addr);
     let mut out = std::io::stdout().lock();
     if !addr.ip().is_loopback() {
         let _ = writeln!(
@@ -156,8 +155,12 @@ fn read_body(req: &mut Request) -> Result<Vec<u8>, Answer> {
 }
 
 fn parse<T: DeserializeOwned>(body: &[u8]) -> Result<T, Answer> {
-    serde_json::from_slice(body)
-        .map_err(|e| Answer::refused(0, &format!("the request is not the JSON this page sends: {e}")))
+    serde_json::from_slice(body).map_err(|e| {
+        Answer::refused(
+            0,
+            &format!("the request is not the JSON this page sends: {e}"),
+        )
+    })
 }
 
 fn asset(content_type: &'static str, text: &str) -> Answer {
@@ -200,17 +203,30 @@ fn route(method: &Method, url: &str, body: &[u8], sweeps: &sweep_job::Sweeps) ->
                 .unwrap_or("");
             sweeps.file(name)
         }
-        (_, "/" | "/index.html" | "/page.js" | "/page.css" | "/api/demo" | "/api/sweep/status"
-        | "/api/sweep/file") => Answer::json(
+        (
+            _,
+            "/" | "/index.html" | "/page.js" | "/page.css" | "/api/demo" | "/api/sweep/status"
+            | "/api/sweep/file",
+        ) => Answer::json(
             405,
             &json!({"status": "error", "error": format!("{path} answers GET only"), "caution": CAUTION}),
         ),
-        (_, p) if p.starts_with("/api/") && [
-            "/api/design", "/api/compare", "/api/file", "/api/brief", "/api/sweep",
-        ].contains(&p) => Answer::json(
-            405,
-            &json!({"status": "error", "error": format!("{path} answers POST only"), "caution": CAUTION}),
-        ),
+        (_, p)
+            if p.starts_with("/api/")
+                && [
+                    "/api/design",
+                    "/api/compare",
+                    "/api/file",
+                    "/api/brief",
+                    "/api/sweep",
+                ]
+                .contains(&p) =>
+        {
+            Answer::json(
+                405,
+                &json!({"status": "error", "error": format!("{path} answers POST only"), "caution": CAUTION}),
+            )
+        }
         _ => Answer::json(
             404,
             &json!({"status": "error", "error": format!("no page or question at {path}"), "caution": CAUTION}),

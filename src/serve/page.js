@@ -122,6 +122,7 @@ function showError(text) {
 
 function showDesign(a) {
   $("infeasible").hidden = true;
+  $("downloads").replaceChildren(); // files only for a design shown in full
   document.body.dataset.designStatus = a.status;
   if (a.status === "error") {
     showError(a.error);
