@@ -119,7 +119,11 @@ fn timed(seq: u64, work: impl FnOnce() -> Result<Value, Refused>) -> Answer {
 pub fn design_answer(req: &StudyRequest) -> Answer {
     timed(req.seq, || {
         let brief = fields::resolve(&req.brief())?;
-        Ok(match design(&brief) {
+        let started = Instant::now();
+        let designed = design(&brief);
+        // The model's own share of the answer (the rest is drawing and encoding).
+        let design_ms = started.elapsed().as_secs_f64() * 1e3;
+        Ok(match designed {
             Ok(d) => {
                 let names: Vec<String> = file_names(&brief.name, d.best.train.cars.len());
                 json!({
@@ -129,9 +133,12 @@ pub fn design_answer(req: &StudyRequest) -> Answer {
                     "elevation_svg": svg::elevation_svg(&d),
                     "loads_svg": plot::loads_svg(&d),
                     "files": names,
+                    "design_ms": design_ms,
                 })
             }
-            Err(e) => json!({"status": "infeasible", "infeasible": infeasible_json(&e)}),
+            Err(e) => {
+                json!({"status": "infeasible", "infeasible": infeasible_json(&e), "design_ms": design_ms})
+            }
         })
     })
 }

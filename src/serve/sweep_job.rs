@@ -39,6 +39,9 @@ pub struct SweepRequest {
     pub shapes: String,
 }
 
+/// Files by name, as the exporters give them.
+type Files = Vec<(String, Vec<u8>)>;
+
 /// What the page sees of the current sweep.
 #[derive(Default)]
 struct Job {
@@ -46,7 +49,7 @@ struct Job {
     total: usize,
     done: Arc<AtomicUsize>,
     /// The CSV and SVG (file names and bytes) once finished, or why it failed.
-    result: Option<Result<Vec<(String, Vec<u8>)>, String>>,
+    result: Option<Result<Files, String>>,
 }
 
 /// The one sweep the server runs at a time.
