@@ -54,6 +54,18 @@ pub enum Command {
     Check(CheckArgs),
     /// Assess one loop of a family at given shape parameters and top radius (no search).
     Evaluate(evaluate::EvaluateArgs),
+    /// Start the study page: a local web page that designs the brief as you type.
+    Serve(ServeArgs),
+}
+
+#[derive(Debug, Clone, Args)]
+pub struct ServeArgs {
+    /// Port to listen on (0: any free port; the URL printed says which).
+    #[arg(long, default_value_t = 8765)]
+    pub port: u16,
+    /// Address to listen on; anything but a loopback address serves other machines (warned).
+    #[arg(long, default_value = "127.0.0.1")]
+    pub bind: String,
 }
 
 /// The axis of a checked file that points up.
@@ -563,6 +575,12 @@ pub fn run(cli: &Cli) -> Result<String, CliError> {
         Command::Merge(a) => study::run_merge(a),
         Command::Check(a) => run_check(a),
         Command::Evaluate(a) => evaluate::run_evaluate(a),
+        Command::Serve(a) => crate::serve::run(&a.bind, a.port)
+            .map(|()| String::new())
+            .map_err(|e| match e {
+                crate::serve::ServeError::BadAddress(_) => CliError::Usage(e.to_string()),
+                crate::serve::ServeError::Listen { .. } => CliError::Io(e.to_string()),
+            }),
     }
 }
 

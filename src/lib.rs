@@ -42,6 +42,7 @@ pub mod model;
 pub mod numeric;
 pub mod optimiser;
 pub mod report;
+pub mod serve;
 pub mod shape;
 pub mod sweep;
 pub mod units;

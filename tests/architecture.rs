@@ -21,6 +21,7 @@ const FLOW: &[&str] = &[
     "sweep",
     "report",
     "export",
+    "serve",
     "cli",
 ];
 
