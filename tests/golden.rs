@@ -6,57 +6,14 @@
 //! that passes means "same bytes as then". When a change to the outputs is intended, regenerate
 //! with `LOOPWRIGHT_BLESS_GOLDEN=1 cargo test --release --test golden` and say why in the commit.
 //!
-//! The DXF header carries creation/update dates and random GUIDs (the `dxf` crate sets them per
-//! run); those header values are blanked before hashing, and so are the DXF's size and SHA-256
-//! in the report that lists it, nothing else.
+//! Every output is hashed as written: the DXF carries fixed dates and GUIDs derived from the brief
+//! (issue 11), so nothing is blanked.
 
 use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 const MANIFEST: &str = "tests/golden/manifest.tsv";
-
-/// DXF header variables whose value changes from run to run.
-const VOLATILE_DXF_VARS: &[&str] = &[
-    "$TDCREATE",
-    "$TDUCREATE",
-    "$TDUPDATE",
-    "$TDUUPDATE",
-    "$TDINDWG",
-    "$TDUSRTIMER",
-    "$FINGERPRINTGUID",
-    "$VERSIONGUID",
-];
-
-fn normalise(name: &str, bytes: Vec<u8>) -> Vec<u8> {
-    if name.ends_with(".json") {
-        // A report lists its siblings' size and SHA-256; the DXF's follow its volatile header.
-        let text = String::from_utf8(bytes).expect("JSON is text");
-        let mut lines: Vec<&str> = text.split('\n').collect();
-        for i in 0..lines.len() {
-            if lines[i].trim_start().starts_with("\"file\":")
-                && lines[i].trim_end().ends_with(".dxf\",")
-                && i + 2 < lines.len()
-            {
-                lines[i + 1] = "<volatile>";
-                lines[i + 2] = "<volatile>";
-            }
-        }
-        return lines.join("\n").into_bytes();
-    }
-    if !name.ends_with(".dxf") {
-        return bytes;
-    }
-    let text = String::from_utf8(bytes).expect("DXF is text");
-    let mut lines: Vec<&str> = text.split('\n').collect();
-    // A header variable is "  9\n$NAME\n<code>\n<value>": blank the value line.
-    for i in 0..lines.len() {
-        if VOLATILE_DXF_VARS.contains(&lines[i].trim()) && i + 2 < lines.len() {
-            lines[i + 2] = "<volatile>";
-        }
-    }
-    lines.join("\n").into_bytes()
-}
 
 fn sha256_hex(bytes: &[u8]) -> String {
     Sha256::digest(bytes)
@@ -87,7 +44,7 @@ fn run_case(case: &str, args: &[&str]) -> BTreeMap<String, String> {
     for entry in std::fs::read_dir(&out).unwrap() {
         let p = entry.unwrap().path();
         let name = p.file_name().unwrap().to_string_lossy().to_string();
-        let bytes = normalise(&name, std::fs::read(&p).unwrap());
+        let bytes = std::fs::read(&p).unwrap();
         files.insert(format!("{case}\t{name}"), sha256_hex(&bytes));
     }
     files

@@ -5,7 +5,8 @@
 //! ([`publish`]). A run that fails before publishing leaves the earlier set as it was.
 //!
 //! Files, for a design named `<name>`:
-//! - `<name>.dxf`: rail centreline and heartline as 3D polylines on their own layers ([`dxf`]);
+//! - `<name>.dxf`: a 2D elevation (XY, dimensioned) beside the 3D model (rail centreline, heartline,
+//!   running rails as cubic SPLINEs, or polylines by brief field) ([`dxf`]);
 //! - `<name>.svg`: elevation drawing ([`svg`]);
 //! - `<name>-loads.svg`: loads against arc length with the limits ([`plot`]);
 //! - `<name>-loads.csv`: one row per station ([`table`]);

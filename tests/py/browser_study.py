@@ -7,9 +7,8 @@ writes for the same brief, run here as a separate process):
 1. the demo brief is designed on load;
 2. with entry speed 23 and max g 5 typed into the panel, the shown loop height equals the
    `loop_height_m` of `loopwright design examples/demo-brief.toml --entry-speed 23 --max-g 5`;
-3. the DXF downloaded through the browser has the CLI's bytes, apart from the DXF header's
-   creation/update dates and GUIDs, which the `dxf` crate sets anew on every run (two CLI runs
-   differ there too; tests/golden.rs blanks the same variables);
+3. the DXF downloaded through the browser has exactly the CLI's bytes (its dates and GUIDs are
+   fixed or derived from the brief);
 4. an infeasible brief (entry speed 12 m/s) shows its reason and hints; clicking the first hint
    gives a feasible design whose height equals the CLI's with that hint applied as a flag;
 5. a small sweep runs to the end and offers its CSV.
@@ -32,18 +31,6 @@ DEMO = os.path.join(ROOT, "examples", "demo-brief.toml")
 DOWNLOADS = os.path.join(WORK, "downloads")
 os.makedirs(DOWNLOADS, exist_ok=True)
 os.makedirs(GALLERY, exist_ok=True)
-
-VOLATILE_DXF_VARS = {"$TDCREATE", "$TDUCREATE", "$TDUPDATE", "$TDUUPDATE", "$TDINDWG",
-                     "$TDUSRTIMER", "$FINGERPRINTGUID", "$VERSIONGUID"}
-
-
-def blank_volatile(data: bytes) -> bytes:
-    lines = data.decode("utf-8").split("\n")
-    for i, line in enumerate(lines):
-        if line.strip() in VOLATILE_DXF_VARS and i + 2 < len(lines):
-            lines[i + 2] = "<volatile>"
-    return "\n".join(lines).encode("utf-8")
-
 
 def cli_design(out_name, *flags):
     out = os.path.join(WORK, out_name)
@@ -120,9 +107,8 @@ try:
         got = f.read()
     with open(os.path.join(cli_out, "copperwing.dxf"), "rb") as f:
         want = f.read()
-    # (Lengths may differ by a digit or two: the dates are printed at full precision.)
-    assert blank_volatile(got) == blank_volatile(want), "DXF differs from the CLI's"
-    print(f"DXF download: {len(got)} bytes, equal to the CLI's apart from header dates/GUIDs")
+    assert got == want, "DXF differs from the CLI's"
+    print(f"DXF download: {len(got)} bytes, byte-identical to the CLI's")
 
     # 4. An infeasible brief and its hint.
     type_into("max-g", "4.5")
