@@ -135,9 +135,10 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infea
     let counter = AtomicUsize::new(0);
     let failed = |e: size::SolverFailure| solver_failure(kind, e);
     let search = shape::search_shape(brief, fam.as_ref(), &counter).map_err(failed)?;
-    let shape = search.shape;
+    // The coarse upper bound the search found for its winner: the polish starts there.
+    let (shape, hint) = (search.shape, search.coarse_hi_m);
     let r = match brief.objective {
-        Objective::Tallest => match size::polish_upper(brief, kind, &shape, &counter)
+        Objective::Tallest => match size::polish_upper(brief, kind, &shape, hint, &counter)
             .map_err(failed)?
         {
             Some(r) => r,

@@ -35,6 +35,9 @@ pub struct ShapeCost<'a> {
     /// The last upper size bound found, m: the next shape's size search starts near it
     /// (neighbouring shapes have neighbouring sizes).
     pub size_hint_m: std::cell::Cell<Option<f64>>,
+    /// The upper size bound of the shape costed last, if it had a feasible one (the polish of the
+    /// winner starts from it).
+    pub last_hi_m: std::cell::Cell<Option<f64>>,
 }
 
 impl ShapeCost<'_> {
@@ -55,6 +58,7 @@ impl ShapeCost<'_> {
         }
         Ok(match self.brief.objective {
             Objective::Tallest => {
+                self.last_hi_m.set(None);
                 let range = size_range_near(
                     self.brief,
                     self.kind,
@@ -65,6 +69,7 @@ impl ShapeCost<'_> {
                 )?;
                 if let SizeRange::Feasible { hi_m, .. } = range {
                     self.size_hint_m.set(Some(hi_m));
+                    self.last_hi_m.set(Some(hi_m));
                 }
                 match range {
                     // The coarse search is planar and coarse; at full fidelity the size window
@@ -146,12 +151,15 @@ impl CostFunction for ShapeCost<'_> {
 
 /// A shape's cost, or the solver failure that stopped its size search.
 type ShapeCostResult = Result<f64, SolverFailure>;
+/// A shape costed: its parameters, its cost and its coarse upper size bound, m.
+type SeenShape = (Vec<f64>, ShapeCostResult, Option<f64>);
 
 /// [`ShapeCost`] that remembers every shape it has costed: the scan, the solver and the final
 /// comparison ask for some shapes more than once, and a shape's cost never changes.
 struct MemoShapeCost<'a> {
     inner: ShapeCost<'a>,
-    seen: std::cell::RefCell<Vec<(Vec<f64>, ShapeCostResult)>>,
+    /// Each shape costed, its cost and its coarse upper size bound.
+    seen: std::cell::RefCell<Vec<SeenShape>>,
 }
 
 impl<'a> MemoShapeCost<'a> {
@@ -162,17 +170,27 @@ impl<'a> MemoShapeCost<'a> {
         }
     }
     fn shape_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
-        if let Some((_, c)) = self
+        if let Some((_, c, _)) = self
             .seen
             .borrow()
             .iter()
-            .find(|(s, _)| s.as_slice() == shape)
+            .find(|(s, ..)| s.as_slice() == shape)
         {
             return c.clone();
         }
         let c = self.inner.shape_cost(shape);
-        self.seen.borrow_mut().push((shape.to_vec(), c.clone()));
+        self.seen
+            .borrow_mut()
+            .push((shape.to_vec(), c.clone(), self.inner.last_hi_m.get()));
         c
+    }
+    /// The coarse upper size bound found for a shape already costed.
+    fn coarse_hi_m(&self, shape: &[f64]) -> Option<f64> {
+        self.seen
+            .borrow()
+            .iter()
+            .find(|(s, ..)| s.as_slice() == shape)
+            .and_then(|(.., hi)| *hi)
     }
 }
 
@@ -213,6 +231,8 @@ pub struct ShapeSearch {
     pub shape: Vec<f64>,
     /// How the search ended, for reports ("scan: optimum on a bound", argmin's termination text).
     pub stopped: String,
+    /// The shape's upper size bound on the coarse sampling, if the search found one.
+    pub coarse_hi_m: Option<f64>,
 }
 
 /// Best shape parameters found by the outer search.
@@ -227,9 +247,11 @@ pub(crate) fn search_shape(
         kind: fam.kind(),
         counter,
         size_hint_m: std::cell::Cell::new(None),
+        last_hi_m: std::cell::Cell::new(None),
     });
     let done = |shape: Vec<f64>, stopped: &str| {
         Ok(ShapeSearch {
+            coarse_hi_m: problem.coarse_hi_m(&shape),
             shape,
             stopped: stopped.to_string(),
         })
@@ -286,7 +308,10 @@ pub(crate) fn search_shape(
                 )
             }
         }
-        _ => global_search(&problem, bounds, &fam.default_shape()),
+        _ => global_search(&problem, bounds, &fam.default_shape()).map(|s| ShapeSearch {
+            coarse_hi_m: problem.coarse_hi_m(&s.shape),
+            ..s
+        }),
     }
 }
 
@@ -388,5 +413,6 @@ fn global_search(
     Ok(ShapeSearch {
         shape: best,
         stopped,
+        coarse_hi_m: None,
     })
 }
