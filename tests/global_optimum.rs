@@ -482,3 +482,64 @@ fn evaluate_reproduces_a_design() {
         assert_eq!(code, 2, "{bad:?}: {err}");
     }
 }
+
+// The gallery's sweep picture (examples/gallery.rs: every family, 20 to 30 m/s, max g 4.5, 6 and
+// 7.5, the demo's losses and top-load limit, no onset limit) must show no zig-zags: within a
+// family, a higher entry speed or a larger max g never gives a shorter tallest loop (the feasible
+// set only grows; the picture had the 7.5 g spline curve up to 2 m below the 4.5 g one).
+// Same grid at the coarse test spacing.
+#[test]
+fn gallery_sweep_has_no_zig_zags() {
+    use loopwright::brief::{BriefInput, DEMO_BRIEF_TOML};
+    use loopwright::sweep::{self, AxisText, SweepInput, SweepSpec};
+    let mut input = BriefInput::from_toml(DEMO_BRIEF_TOML).unwrap();
+    input.max_onset_g_s = None;
+    input.spacing_m = Some(0.5);
+    let grid = SweepInput {
+        entry_speed: Some(AxisText::Text("20..30:11".into())),
+        max_g: Some(AxisText::Text("4.5..7.5:3".into())),
+        min_top_g: None,
+        shapes: None,
+    };
+    let spec = SweepSpec::new(input, &grid).unwrap();
+    let rows = sweep::run(&spec, None, &|| {});
+    let height = |kind: ShapeKind, v: f64, g: f64| {
+        rows.iter()
+            .find(|r| {
+                r.point.kind == kind
+                    && (r.point.entry_speed_m_s - v).abs() < 1e-9
+                    && (r.point.max_g - g).abs() < 1e-9
+            })
+            .and_then(|r| r.result.as_ref().ok())
+            .map(|k| k.loop_height_m)
+    };
+    let mut bad = Vec::new();
+    let mut feasible = 0;
+    for kind in ShapeKind::ALL {
+        let Some(_) = family(kind) else { continue };
+        for i in 0..=10 {
+            let v = 20.0 + i as f64;
+            for (j, g) in [4.5, 6.0, 7.5].into_iter().enumerate() {
+                let Some(h) = height(kind, v, g) else {
+                    continue;
+                };
+                feasible += 1;
+                let mut neighbours = vec![(v + 1.0, g)];
+                if j < 2 {
+                    neighbours.push((v, [4.5, 6.0, 7.5][j + 1]));
+                }
+                for (v2, g2) in neighbours.into_iter().filter(|(v2, _)| *v2 <= 30.0) {
+                    match height(kind, v2, g2) {
+                        Some(h2) if h2 >= h - tol(h) => {}
+                        other => bad.push(format!(
+                            "{kind} {v} m/s {g} g: {h} m, then {v2} m/s {g2} g: {other:?}"
+                        )),
+                    }
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "{}", bad.join("\n"));
+    // Circle: 6 + 0.2 g at the bottom leaves only 7.5 g; clothoid and spline: all 33 each.
+    assert_eq!(feasible, 11 + 33 + 33);
+}
