@@ -129,12 +129,19 @@ fn assert_monotone(kind: ShapeKind, height_m: Option<f64>, axes: &[Axis]) -> usi
                 (Some(r), Some(_)) => r <= strict + tol(strict),
             };
             if !ok {
+                let b = brief_at(p);
                 bad.push(format!(
-                    "{kind}: relaxing {} from {} to {} at {:?} gives {relaxed:?}, was {strict}",
+                    "{kind}: relaxing {} from {} to {} gives {relaxed:?}, was {strict} ({:+.3} %) at {} m/s, {} g, top {} g, onset {:?} g/s, height {:?} m, radius {} m",
                     a.0,
                     a.1[p[k]],
                     a.1[q[k]],
-                    brief_at(p)
+                    relaxed.map_or(f64::NAN, |r| 100.0 * (r / strict - 1.0)),
+                    b.entry_speed_m_s,
+                    b.max_g,
+                    b.min_top_g,
+                    b.max_onset_g_s,
+                    b.max_height_m,
+                    b.min_radius_m
                 ));
             }
         }
@@ -165,12 +172,14 @@ fn tallest_loop_is_monotone_in_every_limit() {
 }
 
 // The same for the variable-radius family (four shape parameters), tallest and height briefs.
-// NOT YET MET: with the global search 9 of the grid's 144 tallest briefs still have a relaxed
-// neighbour up to 2.5 % shorter (15 with 32 scan points and 2 polish starts; the 4-D landscape
-// has many shallow valleys), 9 height-brief pairs a peak 0.7 % higher when onset is relaxed,
-// and the grid takes ~80 s on 2 cores. Run with `--ignored` to see the pairs.
+// NOT YET MET: with the global search (scan, polish from the best 3, one-parameter scans,
+// restarts) 5 of the grid's 144 tallest briefs still have a relaxed neighbour shorter by 0.08 to
+// 0.18 % (before this search: 5, by up to 0.5 %; 9 by up to 2.5 % before that). All are max g
+// relaxed where onset or max g binds: the 4-D landscape has shallow valleys 0.1 % apart in
+// height, and the relaxed brief's search settles in another one. The grid takes ~8 min on
+// 2 cores. Run with `--ignored` to see the pairs.
 #[test]
-#[ignore = "spline search not yet monotone on 9 of 144 briefs (issue 10, open)"]
+#[ignore = "spline search not yet monotone on 5 of 144 briefs, by up to 0.18 % (issue 10, open)"]
 fn spline_tallest_loop_is_monotone_in_every_limit() {
     let n = assert_monotone(ShapeKind::Spline, None, &axes(ShapeKind::Spline));
     assert!(n >= 100, "spline: {n} briefs");
@@ -472,4 +481,65 @@ fn evaluate_reproduces_a_design() {
         let (code, _, err) = loopwright(&args);
         assert_eq!(code, 2, "{bad:?}: {err}");
     }
+}
+
+// The gallery's sweep picture (examples/gallery.rs: every family, 20 to 30 m/s, max g 4.5, 6 and
+// 7.5, the demo's losses and top-load limit, no onset limit) must show no zig-zags: within a
+// family, a higher entry speed or a larger max g never gives a shorter tallest loop (the feasible
+// set only grows; the issue's picture had the 7.5 g spline curve up to 2 m below the 4.5 g one).
+// Same grid at the coarse test spacing.
+#[test]
+fn gallery_sweep_has_no_zig_zags() {
+    use loopwright::brief::{BriefInput, DEMO_BRIEF_TOML};
+    use loopwright::sweep::{self, AxisText, SweepInput, SweepSpec};
+    let mut input = BriefInput::from_toml(DEMO_BRIEF_TOML).unwrap();
+    input.max_onset_g_s = None;
+    input.spacing_m = Some(0.5);
+    let grid = SweepInput {
+        entry_speed: Some(AxisText::Text("20..30:11".into())),
+        max_g: Some(AxisText::Text("4.5..7.5:3".into())),
+        min_top_g: None,
+        shapes: None,
+    };
+    let spec = SweepSpec::new(input, &grid).unwrap();
+    let rows = sweep::run(&spec, None, &|| {});
+    let height = |kind: ShapeKind, v: f64, g: f64| {
+        rows.iter()
+            .find(|r| {
+                r.point.kind == kind
+                    && (r.point.entry_speed_m_s - v).abs() < 1e-9
+                    && (r.point.max_g - g).abs() < 1e-9
+            })
+            .and_then(|r| r.result.as_ref().ok())
+            .map(|k| k.loop_height_m)
+    };
+    let mut bad = Vec::new();
+    let mut feasible = 0;
+    for kind in ShapeKind::ALL {
+        let Some(_) = family(kind) else { continue };
+        for i in 0..=10 {
+            let v = 20.0 + i as f64;
+            for (j, g) in [4.5, 6.0, 7.5].into_iter().enumerate() {
+                let Some(h) = height(kind, v, g) else {
+                    continue;
+                };
+                feasible += 1;
+                let mut neighbours = vec![(v + 1.0, g)];
+                if j < 2 {
+                    neighbours.push((v, [4.5, 6.0, 7.5][j + 1]));
+                }
+                for (v2, g2) in neighbours.into_iter().filter(|(v2, _)| *v2 <= 30.0) {
+                    match height(kind, v2, g2) {
+                        Some(h2) if h2 >= h - tol(h) => {}
+                        other => bad.push(format!(
+                            "{kind} {v} m/s {g} g: {h} m, then {v2} m/s {g2} g: {other:?}"
+                        )),
+                    }
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "{}", bad.join("\n"));
+    // Circle: 6 + 0.2 g at the bottom leaves only 7.5 g; clothoid and spline: all 33 each.
+    assert_eq!(feasible, 11 + 33 + 33);
 }

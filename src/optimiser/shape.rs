@@ -1,7 +1,9 @@
 //! The shape problem: the objective over a family's dimensionless shape parameters, and its
 //! search. For `tallest`, minus the height at the upper size bound; for a target height, the peak
 //! load at the size giving that height. One parameter: a scan, then argmin's `BrentOpt`; several:
-//! a space-filling (Halton) scan of the whole box, then argmin's `NelderMead` from the best few.
+//! a space-filling (Halton) scan of the whole box, then argmin's `NelderMead` from the best few,
+//! one-parameter scans through the winner and restarts. A shape whose size window is short of the
+//! slack costs its height less an exact penalty, so the search can follow a limit's boundary.
 
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
 use argmin::solver::brent::BrentOpt;
@@ -18,14 +20,18 @@ use crate::checks::limits::{LimitKind, limits_of};
 use crate::shape::{ShapeFamily, family};
 
 /// Costs of shapes without a usable answer, ordered so that the search moves from the worst
-/// towards feasibility: every feasible shape costs less than [`COST_INFEASIBLE`] (minus its height
-/// in metres, or its peak load in g); a shape whose size window is empty costs that plus the log
-/// of the gap; one that stalls, one with no size at all and one outside its bounds or making no
-/// loop cost more, in that order.
-pub const COST_INFEASIBLE: f64 = 1e3;
+/// towards feasibility: a shape with a size costs minus its height in metres (penalised by
+/// [`WINDOW_PENALTY`] when its size window is short), or its peak load in g for a height brief;
+/// one that stalls, one with no size at all and one outside its bounds or making no loop cost
+/// more, in that order.
 pub const COST_STALL: f64 = 1e4;
 pub const COST_NO_SIZE: f64 = 1e5;
 pub const COST_UNUSABLE: f64 = 1e6;
+/// Weight of the exact penalty on a size window short of the slack: the cost of a shape whose
+/// window misses by a fraction ε is −h(1 − Pε). Relaxing a load limit by a fraction ε buys far
+/// less than Pε of height (loads scale as 1/size), so the penalised minimum is a feasible one
+/// (the exact-penalty theorem: Nocedal & Wright, Numerical Optimization, 2nd ed., §17.2).
+pub const WINDOW_PENALTY: f64 = 5.0;
 
 /// Problem: the objective over a family's dimensionless shape parameters.
 pub struct ShapeCost<'a> {
@@ -38,9 +44,19 @@ pub struct ShapeCost<'a> {
     /// The upper size bound of the shape costed last, if it had a feasible one (the polish of the
     /// winner starts from it).
     pub last_hi_m: std::cell::Cell<Option<f64>>,
+    /// Whether the shape costed last meets every limit with a window to spare (tallest briefs;
+    /// a height brief's shapes are all candidates).
+    pub feasible: std::cell::Cell<bool>,
 }
 
 impl ShapeCost<'_> {
+    /// A height, capped at the brief's largest.
+    fn capped(&self, height_m: f64) -> f64 {
+        self.brief
+            .max_height_m
+            .map_or(height_m, |m| height_m.min(m))
+    }
+
     fn in_bounds(&self, shape: &[f64]) -> bool {
         family(self.kind).is_some_and(|f| {
             f.shape_bounds()
@@ -50,8 +66,9 @@ impl ShapeCost<'_> {
         })
     }
 
-    /// Cost of a shape: lower is better; feasible shapes cost below [`COST_INFEASIBLE`]. The size
-    /// search inside can fail only as a solver ([`SolverFailure`]), never silently.
+    /// Cost of a shape: lower is better; [`ShapeCost::feasible`] says afterwards whether the
+    /// shape meets every limit. The size search inside can fail only as a solver
+    /// ([`SolverFailure`]), never silently.
     pub fn shape_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
         if !self.in_bounds(shape) {
             return Ok(COST_UNUSABLE);
@@ -59,6 +76,7 @@ impl ShapeCost<'_> {
         Ok(match self.brief.objective {
             Objective::Tallest => {
                 self.last_hi_m.set(None);
+                self.feasible.set(false);
                 let range = size_range_near(
                     self.brief,
                     self.kind,
@@ -67,22 +85,31 @@ impl ShapeCost<'_> {
                     self.counter,
                     self.size_hint_m.get(),
                 )?;
-                if let SizeRange::Feasible { hi_m, .. } = range {
-                    self.size_hint_m.set(Some(hi_m));
-                    self.last_hi_m.set(Some(hi_m));
+                match range {
+                    SizeRange::Feasible { hi_m, .. } => {
+                        self.size_hint_m.set(Some(hi_m));
+                        self.last_hi_m.set(Some(hi_m));
+                    }
+                    SizeRange::Gap { hi_m, .. } => self.size_hint_m.set(Some(hi_m)),
+                    _ => {}
                 }
+                let h_per_r = height_per_radius(self.kind, shape).unwrap_or(0.0);
                 match range {
                     // The coarse search is planar and coarse; at full fidelity the size window
                     // moves by a few tenths of a percent (the shift lowers the top load a little).
                     // A shape counts as feasible only with SIZE_SLACK of window to spare, so the
                     // search does not settle in a corner where two limits meet and the full model
-                    // then finds no size at all.
-                    SizeRange::Feasible { lo_m, hi_m } if hi_m < lo_m * (1.0 + SIZE_SLACK) => {
-                        COST_INFEASIBLE + (lo_m * (1.0 + SIZE_SLACK) / hi_m).ln()
-                    }
-                    SizeRange::Feasible { hi_m, .. } => {
-                        let h = height_per_radius(self.kind, shape).unwrap_or(0.0) * hi_m;
-                        let h = self.brief.max_height_m.map_or(h, |m| h.min(m));
+                    // then finds no size at all. Short of that, the cost is the height at the
+                    // upper bound plus an exact penalty on the missing window (continuous across
+                    // the boundary, so the polish can slide along it: where a lower-side limit
+                    // binds, the optimum lies on that boundary, and a cliff there stalls
+                    // Nelder-Mead short of it).
+                    SizeRange::Feasible { lo_m, hi_m } if hi_m >= lo_m * (1.0 + SIZE_SLACK) => {
+                        self.feasible.set(true);
+                        let h = self.capped(h_per_r * hi_m);
+                        if h >= h_per_r * hi_m {
+                            return Ok(-h);
+                        }
                         // Among equally tall loops (height capped), prefer the lower peak load.
                         let peak = match evaluate_shifted(
                             self.brief,
@@ -97,7 +124,10 @@ impl ShapeCost<'_> {
                         };
                         -h + 1e-3 * peak
                     }
-                    SizeRange::Gap { lo_m, hi_m } => COST_INFEASIBLE + (lo_m / hi_m).ln(),
+                    SizeRange::Feasible { lo_m, hi_m } | SizeRange::Gap { lo_m, hi_m } => {
+                        let h = self.capped(h_per_r * hi_m);
+                        -h + WINDOW_PENALTY * h * (lo_m * (1.0 + SIZE_SLACK) / hi_m).ln()
+                    }
                     SizeRange::UpperFailsEverywhere | SizeRange::LowerFailsEverywhere { .. } => {
                         COST_NO_SIZE
                     }
@@ -109,6 +139,7 @@ impl ShapeCost<'_> {
                 };
                 let r = height_m / h1;
                 self.counter.fetch_add(1, Ordering::Relaxed);
+                self.feasible.set(false);
                 match evaluate(
                     self.brief,
                     self.kind,
@@ -131,6 +162,7 @@ impl ShapeCost<'_> {
                         let penalty = short(LimitKind::MinTopG, f64::INFINITY)
                             + short(LimitKind::MinRadius, f64::INFINITY)
                             + short(LimitKind::MaxOnset, 1e3);
+                        self.feasible.set(penalty == 0.0);
                         s.peak_normal_g + 100.0 * penalty
                     }
                     Err(EvalFailure::Stall(_)) => COST_STALL,
@@ -151,8 +183,9 @@ impl CostFunction for ShapeCost<'_> {
 
 /// A shape's cost, or the solver failure that stopped its size search.
 type ShapeCostResult = Result<f64, SolverFailure>;
-/// A shape costed: its parameters, its cost and its coarse upper size bound, m.
-type SeenShape = (Vec<f64>, ShapeCostResult, Option<f64>);
+/// A shape costed: its parameters, its cost, its coarse upper size bound, m, and whether it meets
+/// every limit.
+type SeenShape = (Vec<f64>, ShapeCostResult, Option<f64>, bool);
 
 /// [`ShapeCost`] that remembers every shape it has costed: the scan, the solver and the final
 /// comparison ask for some shapes more than once, and a shape's cost never changes.
@@ -169,8 +202,27 @@ impl<'a> MemoShapeCost<'a> {
             seen: std::cell::RefCell::new(Vec::new()),
         }
     }
+    /// The cost of a shape; a shape outside the family's bounds costs its projection onto them
+    /// plus its distance from them (in units of each range, times [`OUT_OF_BOUNDS`]), so that a
+    /// polish against a bound slides along it instead of meeting a wall. Only shapes inside the
+    /// bounds are remembered, so only they can be the answer.
     fn shape_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
-        if let Some((_, c, _)) = self
+        let bounds = family(self.inner.kind).map_or(&[][..], |f| f.shape_bounds());
+        if bounds.len() == shape.len() {
+            let inside = clamp_to(bounds, shape);
+            if inside.as_slice() != shape {
+                let out: f64 = bounds
+                    .iter()
+                    .zip(shape.iter().zip(&inside))
+                    .map(|((lo, hi), (x, y))| ((x - y) / (hi - lo)).abs())
+                    .sum();
+                return Ok(self.inside_cost(&inside)? + OUT_OF_BOUNDS * out);
+            }
+        }
+        self.inside_cost(shape)
+    }
+    fn inside_cost(&self, shape: &[f64]) -> Result<f64, SolverFailure> {
+        if let Some((_, c, ..)) = self
             .seen
             .borrow()
             .iter()
@@ -179,10 +231,28 @@ impl<'a> MemoShapeCost<'a> {
             return c.clone();
         }
         let c = self.inner.shape_cost(shape);
-        self.seen
-            .borrow_mut()
-            .push((shape.to_vec(), c.clone(), self.inner.last_hi_m.get()));
+        self.seen.borrow_mut().push((
+            shape.to_vec(),
+            c.clone(),
+            self.inner.last_hi_m.get(),
+            self.inner.feasible.get(),
+        ));
         c
+    }
+    /// The answer of a search that settled on `shape`: itself if it meets every limit, else the
+    /// best shape costed that does (a penalised shape can cost less than every feasible one
+    /// when no limit is far from binding), else itself (the design then explains why).
+    fn settle(&self, shape: Vec<f64>) -> Vec<f64> {
+        let seen = self.seen.borrow();
+        let feasible = |x: &[f64]| seen.iter().any(|(s, .., f)| s.as_slice() == x && *f);
+        if feasible(&shape) {
+            return shape;
+        }
+        seen.iter()
+            .filter(|(.., f)| *f)
+            .filter_map(|(s, c, ..)| c.as_ref().ok().map(|c| (*c, s)))
+            .min_by(|a, b| a.0.total_cmp(&b.0))
+            .map_or(shape, |(_, s)| s.clone())
     }
     /// The coarse upper size bound found for a shape already costed.
     fn coarse_hi_m(&self, shape: &[f64]) -> Option<f64> {
@@ -190,8 +260,21 @@ impl<'a> MemoShapeCost<'a> {
             .borrow()
             .iter()
             .find(|(s, ..)| s.as_slice() == shape)
-            .and_then(|(.., hi)| *hi)
+            .and_then(|(_, _, hi, _)| *hi)
     }
+}
+
+/// Cost per unit of distance outside the shape bounds (in units of each parameter's range): a
+/// metre of height per 1 % of range.
+const OUT_OF_BOUNDS: f64 = 100.0;
+
+/// `shape` moved onto the box `bounds`.
+fn clamp_to(bounds: &[(f64, f64)], shape: &[f64]) -> Vec<f64> {
+    bounds
+        .iter()
+        .zip(shape)
+        .map(|((lo, hi), x)| x.clamp(*lo, *hi))
+        .collect()
 }
 
 /// One-parameter view of [`ShapeCost`] for argmin's `BrentOpt`.
@@ -248,8 +331,10 @@ pub(crate) fn search_shape(
         counter,
         size_hint_m: std::cell::Cell::new(None),
         last_hi_m: std::cell::Cell::new(None),
+        feasible: std::cell::Cell::new(false),
     });
     let done = |shape: Vec<f64>, stopped: &str| {
+        let shape = problem.settle(shape);
         Ok(ShapeSearch {
             coarse_hi_m: problem.coarse_hi_m(&shape),
             shape,
@@ -308,10 +393,10 @@ pub(crate) fn search_shape(
                 )
             }
         }
-        _ => global_search(&problem, bounds, &fam.default_shape()).map(|s| ShapeSearch {
-            coarse_hi_m: problem.coarse_hi_m(&s.shape),
-            ..s
-        }),
+        _ => {
+            let s = global_search(&problem, bounds, &fam.default_shape())?;
+            done(s.shape, &s.stopped)
+        }
     }
 }
 
@@ -327,6 +412,16 @@ const POLISH_STARTS: usize = 3;
 const POLISH_ITERS: u64 = 40;
 /// Edge of the polish's first simplex, as a fraction of each parameter's range.
 const POLISH_STEP: f64 = 0.06;
+/// Rounds of the one-parameter scans through the best shape, and their intervals per parameter.
+const PARAMETER_SCANS: usize = 2;
+const PARAMETER_SCAN_STEPS: usize = 8;
+/// Restarts of the polish from the best shape, the first simplex's edge (halved at each) and
+/// their iterations.
+const RESTARTS: usize = 2;
+const RESTART_STEP: f64 = 0.03;
+const RESTART_ITERS: u64 = 60;
+/// A gain in cost (m of height, or g) below which a stage counts as having found nothing.
+const MEANINGFUL_GAIN: f64 = 1e-4;
 
 /// Point `i` (from 1) of the Halton sequence in `dim` dimensions (radical inverses in the first
 /// primes): a deterministic, space-filling sample of the unit cube (Halton, Numer. Math. 2 (1960) 84).
@@ -349,7 +444,9 @@ fn halton(i: usize, dim: usize) -> Vec<f64> {
 /// Global search for several shape parameters: the cost landscape has several valleys (the
 /// issue's local optima made relaxed briefs come out shorter), so a space-filling scan of the
 /// whole box (the default shape plus Halton points) finds the valleys and Nelder–Mead polishes
-/// the best few. Deterministic: the same brief always takes the same path.
+/// the best few; one-parameter scans through the winner look for neighbouring valleys, and
+/// restarts refine it. Shapes outside the bounds cost their projection plus a penalty, so a
+/// polish slides along a bound. Deterministic: the same brief always takes the same path.
 fn global_search(
     problem: &MemoShapeCost<'_>,
     bounds: &[(f64, f64)],
@@ -371,48 +468,102 @@ fn global_search(
     let (mut best_cost, mut best) = scan[0].clone();
     let mut stopped = "scan: no polish improved on it".to_string();
     for (_, start) in scan.iter().take(POLISH_STARTS) {
-        let mut simplex = vec![start.clone()];
-        for (i, (lo, hi)) in bounds.iter().enumerate() {
-            let mut v = start.clone();
-            let step = POLISH_STEP * (hi - lo);
-            // Step inwards, so that every vertex is a usable shape.
-            v[i] = if v[i] + step <= *hi {
-                v[i] + step
-            } else {
-                v[i] - step
-            };
-            simplex.push(v);
-        }
-        let solver = NelderMead::new(simplex)
-            .with_sd_tolerance(1e-5)
-            .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
-        let res = Executor::new(ShapeCostN(problem), solver)
-            .configure(|s| s.max_iters(POLISH_ITERS))
-            .run()
-            .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
-        let state = res.state();
-        let reason = state
-            .get_termination_reason()
-            .map_or("no termination reason", |r| r.text())
-            .to_string();
-        let Some(p) = state.get_best_param() else {
-            return Err(SolverFailure {
-                solver: "shape search (Nelder-Mead)",
-                reason,
-            });
-        };
-        let c = problem.shape_cost(p)?;
+        let (c, p, reason) = polish(problem, bounds, start, POLISH_STEP, POLISH_ITERS)?;
         if c < best_cost {
-            (best_cost, best) = (c, p.clone());
+            (best_cost, best) = (c, p);
             stopped = format!(
                 "scan of {} shapes, then Nelder-Mead from the best {POLISH_STARTS}: {reason}",
                 scan.len()
             );
         }
     }
+    // Neighbouring valleys along one parameter (the top slope of the variable-radius family has
+    // several of nearly equal height): scan each parameter across its range from the best, and
+    // polish again from any better point found.
+    for _ in 0..PARAMETER_SCANS {
+        let mut moved = false;
+        for (i, (lo, hi)) in bounds.iter().enumerate() {
+            for k in 0..=PARAMETER_SCAN_STEPS {
+                let mut x = best.clone();
+                x[i] = lo + (hi - lo) * k as f64 / PARAMETER_SCAN_STEPS as f64;
+                let c = problem.shape_cost(&x)?;
+                if c < best_cost - MEANINGFUL_GAIN {
+                    (best_cost, best, moved) = (c, x, true);
+                }
+            }
+        }
+        if !moved {
+            break;
+        }
+        let (c, p, reason) = polish(problem, bounds, &best, POLISH_STEP, POLISH_ITERS)?;
+        if c < best_cost {
+            (best_cost, best) = (c, p);
+            stopped = format!("{stopped}; parameter scan, then Nelder-Mead: {reason}");
+        }
+    }
+    // Refine the best valley: restarts with a fresh, smaller simplex until one gains nothing
+    // (a collapsed simplex is Nelder-Mead's known failure; a restart is the standard remedy,
+    // Numerical Recipes 3rd ed. §10.5).
+    let mut step = RESTART_STEP;
+    for _ in 0..RESTARTS {
+        let (c, p, reason) = polish(problem, bounds, &best, step, RESTART_ITERS)?;
+        let gain = best_cost - c;
+        if c < best_cost {
+            (best_cost, best) = (c, p);
+            stopped = format!("{stopped}; restart: {reason}");
+        }
+        if gain < MEANINGFUL_GAIN {
+            break;
+        }
+        step *= 0.5;
+    }
     Ok(ShapeSearch {
         shape: best,
         stopped,
         coarse_hi_m: None,
     })
+}
+
+/// Nelder–Mead from `start` with a first simplex of edge `step` (a fraction of each parameter's
+/// range), at most `iters` iterations: the best cost, shape and why it stopped.
+fn polish(
+    problem: &MemoShapeCost<'_>,
+    bounds: &[(f64, f64)],
+    start: &[f64],
+    step: f64,
+    iters: u64,
+) -> Result<(f64, Vec<f64>, String), SolverFailure> {
+    let mut simplex = vec![start.to_vec()];
+    for (i, (lo, hi)) in bounds.iter().enumerate() {
+        let mut v = start.to_vec();
+        let step = step * (hi - lo);
+        // Step inwards, so that every vertex is a usable shape.
+        v[i] = if v[i] + step <= *hi {
+            v[i] + step
+        } else {
+            v[i] - step
+        };
+        simplex.push(v);
+    }
+    let solver = NelderMead::new(simplex)
+        .with_sd_tolerance(1e-5)
+        .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
+    let res = Executor::new(ShapeCostN(problem), solver)
+        .configure(|s| s.max_iters(iters))
+        .run()
+        .map_err(|e| solver_error("shape search (Nelder-Mead)", e))?;
+    let state = res.state();
+    let reason = state
+        .get_termination_reason()
+        .map_or("no termination reason", |r| r.text())
+        .to_string();
+    let Some(p) = state.get_best_param() else {
+        return Err(SolverFailure {
+            solver: "shape search (Nelder-Mead)",
+            reason,
+        });
+    };
+    // Nelder-Mead may end just outside a bound it leant on: its answer is the shape on the bound.
+    let p = clamp_to(bounds, p);
+    Ok((problem.shape_cost(&p)?, p, reason))
 }

@@ -154,8 +154,9 @@ pub(crate) fn brent_root(problem: SizeMargin<'_>, a: f64, b: f64) -> Result<f64,
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum SizeRange {
     /// Top radii from `lo_m` to `hi_m` meet every limit. `lo_m` may lie above the smallest such
-    /// radius (a grid radius where the lower-side limits already pass): no caller needs the exact
-    /// lower bound of a feasible range, and finding it would cost a root search.
+    /// radius (a radius where the lower-side limits already pass) when the window is wider than
+    /// the shape search's slack: no caller needs the exact lower bound of a wide range, and
+    /// finding it would cost a root search. A narrower window's `lo_m` is exact.
     Feasible { lo_m: f64, hi_m: f64 },
     /// The lower bound lies above the upper bound: no size works.
     Gap { lo_m: f64, hi_m: f64 },
@@ -188,13 +189,12 @@ pub fn size_range(
     size_range_near(brief, kind, shape, fine, counter, None)
 }
 
-/// Half-width (relative) of the bracket a size hint opens around itself.
-const HINT_BRACKET: f64 = 0.03;
+/// The secant's first step from a size hint, in ln(top radius).
+const HINT_STEP: f64 = 0.03;
 
-/// As [`size_range`], starting from `hint_m`, the upper bound of a neighbouring shape: when the
-/// upper bound lies within ±3 % of it and the lower-side limits pass at the bracket's lower end,
-/// Brent finds it in that bracket (2 evaluations instead of the grid's 5 or so, and a tighter
-/// start). Anything else (hint too far, a window narrower than the shape search's slack, no
+/// As [`size_range`], starting from `hint_m`, the upper bound of a neighbouring shape: a secant
+/// in 1/R from there finds the bounds ([`from_hint`]: 3 to 5 evaluations where the grid and Brent
+/// take 15 or so). Anything else (hint too far, a window narrower than the shape search's slack, no
 /// hint) runs the full search, so a hint changes only the cost, never the classification's rules.
 pub(crate) fn size_range_near(
     brief: &Brief,
@@ -212,22 +212,12 @@ pub(crate) fn size_range_near(
         fine,
         counter,
     };
-    if let Some(h) = hint_m.filter(|h| h.is_finite() && *h > 0.0) {
-        let (a, b) = (
-            (h * (1.0 - HINT_BRACKET)).ln(),
-            (h * (1.0 + HINT_BRACKET)).ln(),
-        );
-        let up = mk(Side::Upper);
-        let at_a = up.both_margins(a);
-        if at_a.0 >= 0.0 && at_a.1 >= 0.0 && up.margin(b) < 0.0 {
-            let hi = brent_root(mk(Side::Upper), a, b)?.exp();
-            let lo = a.exp();
-            if hi >= lo * (1.0 + super::SIZE_SLACK) {
-                return Ok(SizeRange::Feasible { lo_m: lo, hi_m: hi });
-            }
-        }
-    }
     let grid = radius_grid(brief);
+    if let Some(h) = hint_m.filter(|h| h.is_finite() && *h > 0.0)
+        && let Some(range) = from_hint(&mk(Side::Upper), h, grid[grid.len() - 1])?
+    {
+        return Ok(range);
+    }
     let up = mk(Side::Upper);
     // Both margins at a grid point come from one evaluation, made only when a search needs it.
     let mut memo: Vec<Option<(f64, f64)>> = vec![None; grid.len()];
@@ -246,10 +236,17 @@ pub(crate) fn size_range_near(
     // certain (the lower margin rises with size), so the exact lower bound is not needed.
     let below = hi_at.map_or(grid.len() - 1, |h| h - 1);
     if margins(below).1 >= 0.0 {
-        return Ok(SizeRange::Feasible {
-            lo_m: grid[below],
-            hi_m: hi,
-        });
+        // A window narrower than the shape search's slack is measured exactly (its penalty
+        // needs the true lower bound), when the lower side fails a grid step further down.
+        let lo = if below > 0
+            && hi < grid[below] * (1.0 + super::SIZE_SLACK)
+            && margins(below - 1).1 < 0.0
+        {
+            brent_root(mk(Side::Lower), grid[below - 1].ln(), grid[below].ln())?.exp()
+        } else {
+            grid[below]
+        };
+        return Ok(SizeRange::Feasible { lo_m: lo, hi_m: hi });
     }
     // Lower bound: first pass of the lower side.
     let lo = match first_true(grid.len(), |i| margins(i).1 >= 0.0) {
@@ -323,6 +320,79 @@ pub(crate) fn polish_upper(
         ..fine
     };
     Ok((lower.margin(r.ln()) >= 0.0).then_some(r))
+}
+
+/// The size range found from a neighbouring shape's upper bound `hint_m`, by a secant in 1/R on
+/// the upper margin from the hint and a step beside it (towards the root), within a factor of 2
+/// of the hint and the search range's end `largest_m`. The range is feasible from the largest
+/// radius tried below the bound with the slack where the lower-side limits hold (or from the
+/// bound less the slack, tried once); otherwise a second secant finds the exact lower bound (so
+/// that a narrow window or a gap is measured exactly, as the shape search's penalty needs).
+/// `None` (the caller runs the full search) when a secant loses its root: a hint changes only the
+/// cost, never the classification's rules.
+fn from_hint(
+    up: &SizeMargin<'_>,
+    hint_m: f64,
+    largest_m: f64,
+) -> Result<Option<SizeRange>, SolverFailure> {
+    // Every evaluation's (ln R, upper margin, lower margin).
+    let tried = std::cell::RefCell::new(Vec::<(f64, f64, f64)>::new());
+    let both = |x: f64| {
+        let m = up.both_margins(x);
+        tried.borrow_mut().push((x, m.0, m.1));
+        m
+    };
+    let x0 = hint_m.ln();
+    let f0 = both(x0).0;
+    let x1 = x0 + if f0 >= 0.0 { HINT_STEP } else { -HINT_STEP };
+    let window = (
+        x0 - std::f64::consts::LN_2,
+        (2.0 * hint_m).min(largest_m).ln(),
+    );
+    let root = match secant_root(&mut |x| both(x).0, (x0, f0), x1, window) {
+        Secant::Root(x) => x,
+        Secant::Bracket(lo, hi) => brent_root(*up, lo, hi)?,
+        Secant::Lost => return Ok(None),
+    };
+    let hi_m = root.exp();
+    let need = root - super::SIZE_SLACK.ln_1p();
+    let held = tried
+        .borrow()
+        .iter()
+        .filter(|(x, u, l)| *x <= need && *u >= 0.0 && *l >= 0.0)
+        .map(|t| t.0)
+        .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))));
+    if let Some(x) = held {
+        return Ok(Some(SizeRange::Feasible {
+            lo_m: x.exp(),
+            hi_m,
+        }));
+    }
+    let low_need = both(need).1;
+    if low_need >= 0.0 {
+        return Ok(Some(SizeRange::Feasible {
+            lo_m: need.exp(),
+            hi_m,
+        }));
+    }
+    // The lower-side limits fail there: find where they start to hold. Their margin rises with
+    // size, so the secant runs on its negative (falling, as the upper one).
+    let low = SizeMargin {
+        side: Side::Lower,
+        ..*up
+    };
+    let window = (need, largest_m.ln());
+    let lo = match secant_root(&mut |x| -low.margin(x), (need, -low_need), root, window) {
+        Secant::Root(x) => x,
+        Secant::Bracket(pass, fail) => brent_root(low, pass, fail)?,
+        Secant::Lost => return Ok(None),
+    };
+    let lo_m = lo.exp();
+    Ok(Some(if lo_m <= hi_m {
+        SizeRange::Feasible { lo_m, hi_m }
+    } else {
+        SizeRange::Gap { lo_m, hi_m }
+    }))
 }
 
 /// Tolerance of the size roots, in ln(top radius): the same as the Brent searches'.
