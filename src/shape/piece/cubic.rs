@@ -28,6 +28,34 @@ pub struct CubicWalk {
     sum: (f64, f64),
 }
 
+impl Cubic {
+    /// κ at the ends and wherever the slope 3c3·t² + 2c2·t + c1 vanishes inside: every
+    /// candidate for an extreme of κ on the piece.
+    fn extremes(&self) -> impl Iterator<Item = f64> + '_ {
+        let len = self.length_m;
+        let [_, c1, c2, c3] = self.coeffs;
+        let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
+        let mut roots = [f64::NAN; 2];
+        if a.abs() > 1e-300 {
+            let disc = b * b - 4.0 * a * c;
+            if disc >= 0.0 {
+                roots = [
+                    (-b + disc.sqrt()) / (2.0 * a),
+                    (-b - disc.sqrt()) / (2.0 * a),
+                ];
+            }
+        } else if b.abs() > 1e-300 {
+            roots[0] = -c / b;
+        }
+        // NaN (no root) fails the range test.
+        let inside = roots.into_iter().filter(move |&r| r > 0.0 && r < len);
+        [0.0, len]
+            .into_iter()
+            .chain(inside)
+            .map(|t| self.curvature_1_m(t))
+    }
+}
+
 impl CurvePiece for Cubic {
     type Walk = CubicWalk;
     fn length_m(&self) -> f64 {
@@ -40,30 +68,10 @@ impl CurvePiece for Cubic {
         cubic_integral(&self.coeffs, t)
     }
     fn max_abs_curvature_1_m(&self) -> f64 {
-        // The extremes lie at the ends or where the slope 3c3·t² + 2c2·t + c1 vanishes.
-        let len = self.length_m;
-        let mut m = self
-            .curvature_1_m(0.0)
-            .abs()
-            .max(self.curvature_1_m(len).abs());
-        let [_, c1, c2, c3] = self.coeffs;
-        let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
-        let mut roots = Vec::new();
-        if a.abs() > 1e-300 {
-            let disc = b * b - 4.0 * a * c;
-            if disc >= 0.0 {
-                roots.push((-b + disc.sqrt()) / (2.0 * a));
-                roots.push((-b - disc.sqrt()) / (2.0 * a));
-            }
-        } else if b.abs() > 1e-300 {
-            roots.push(-c / b);
-        }
-        for r in roots {
-            if r > 0.0 && r < len {
-                m = m.max(self.curvature_1_m(r).abs());
-            }
-        }
-        m
+        self.extremes().fold(0.0, |m, k| m.max(k.abs()))
+    }
+    fn min_curvature_1_m(&self) -> f64 {
+        self.extremes().fold(f64::INFINITY, f64::min)
     }
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> CubicWalk {
         CubicWalk {
@@ -194,13 +202,17 @@ mod tests {
             coeffs: [0.0, 2.0, -1.0, 0.0],
         };
         assert_eq!(p.max_abs_curvature_1_m(), 3.0);
+        // Signed, the least κ is the end value −3 on [0, 3] and κ(0) = 0 on [0, 2].
+        assert_eq!(p.min_curvature_1_m(), -3.0);
         p.length_m = 2.0;
         assert_eq!(p.max_abs_curvature_1_m(), 1.0);
+        assert_eq!(p.min_curvature_1_m(), 0.0);
         // With a cubic term: κ = t³ − 3t has its extremes at t = ±1 (κ(1) = −2) on [0, 1.5].
         let q = Cubic {
             length_m: 1.5,
             coeffs: [0.0, -3.0, 0.0, 1.0],
         };
         assert!((q.max_abs_curvature_1_m() - 2.0).abs() < 1e-15);
+        assert!((q.min_curvature_1_m() + 2.0).abs() < 1e-15);
     }
 }
