@@ -117,25 +117,44 @@ pub fn quadrature_displacement(
     let t = t0.abs().max(t1.abs());
     let kappa_bound = cubic_value(&coeffs.map(f64::abs), t);
     let len = (t1 - t0).abs();
-    let parts = ((len * kappa_bound / accuracy.max_turn_rad)
-        .max(len / accuracy.max_step_m)
-        .ceil() as usize)
-        .clamp(1, MAX_PARTS);
+    let parts =
+        ceil_to_usize((len * kappa_bound / accuracy.max_turn_rad).max(len / accuracy.max_step_m))
+            .clamp(1, MAX_PARTS);
     let h = (t1 - t0) / parts as f64;
     let coarse =
         h.abs() * kappa_bound <= accuracy.coarse_turn_rad && h.abs() <= accuracy.coarse_step_m;
     let rule: &[(f64, f64)] = if coarse { &GL4 } else { &GL8 };
     let (mut dx, mut dz) = (0.0, 0.0);
+    // Pitches first, then their sines and cosines, then the sums (in node order, as always): the
+    // library's sincos clobbers every vector register, so nothing else stays live across it.
+    let mut pitch = [0.0; 8];
+    let mut sin_cos = [(0.0, 0.0); 8];
     for p in 0..parts {
         let a = t0 + h * p as f64;
-        for &(node, w) in rule {
+        for (th, &(node, _)) in pitch.iter_mut().zip(rule) {
             let tau = a + 0.5 * h * (node + 1.0);
-            let th = theta0 + cubic_integral(coeffs, tau);
-            dx += 0.5 * h * w * th.cos();
-            dz += 0.5 * h * w * th.sin();
+            *th = theta0 + cubic_integral(coeffs, tau);
+        }
+        for (sc, th) in sin_cos.iter_mut().zip(&pitch[..rule.len()]) {
+            *sc = th.sin_cos();
+        }
+        for (&(_, w), &(sn, cs)) in rule.iter().zip(&sin_cos) {
+            dx += 0.5 * h * w * cs;
+            dz += 0.5 * h * w * sn;
         }
     }
     (dx, dz)
+}
+
+/// ⌈x⌉ as a count, exactly as `x.ceil() as usize` (NaN and negatives give 0, huge values
+/// saturate) without the library call `ceil` is on a baseline x86-64 target.
+fn ceil_to_usize(x: f64) -> usize {
+    let i = x as usize;
+    if (i as f64) < x {
+        i.saturating_add(1)
+    } else {
+        i
+    }
 }
 
 #[cfg(test)]
@@ -190,6 +209,31 @@ mod tests {
                 .fresnel_displacement(theta0, t, Accuracy::DEFAULT)
                 .unwrap();
             assert!((x - fx).abs() < 1e-11 && (z - fz).abs() < 1e-11, "t = {t}");
+        }
+    }
+
+    // The integer ceiling must be `f64::ceil` (the standard library's) cast to a count.
+    #[test]
+    fn integer_ceiling_is_the_ceiling() {
+        let probes = [
+            0.0,
+            -0.0,
+            0.3,
+            1.0,
+            1.0 + f64::EPSILON,
+            2.5,
+            1e15 + 0.5,
+            4503599627370497.0,
+            1e20,
+            -0.7,
+            -3.0,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            1e-300,
+        ];
+        for x in probes {
+            assert_eq!(ceil_to_usize(x), x.ceil() as usize, "{x}");
         }
     }
 
