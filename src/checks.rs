@@ -97,26 +97,43 @@ struct PathFigures {
 }
 
 impl PathFigures {
+    /// One pass over the stations for what [`Centreline`]'s own methods (`top_index`,
+    /// `loop_height_m`, `rail_height_m`, `min_radius_m`, `peak_roll_rad`) would each find in
+    /// passes of their own: the same folds in the same order, so the same bits.
     fn of(path: &Centreline) -> PathFigures {
         let st = &path.stations;
-        let first = st
-            .iter()
-            .position(|s| s.in_loop)
-            .expect("a loop has stations");
-        let last = st
-            .iter()
-            .rposition(|s| s.in_loop)
-            .expect("a loop has stations");
+        let mut top = 0;
+        let (mut first, mut last) = (None, None);
+        let mut rail_top_m = f64::MIN;
+        let mut max_curvature_1_m = 0.0;
+        let mut peak_roll_rad = 0.0;
+        let mut inverted_at = Vec::with_capacity(st.len());
+        for (i, s) in st.iter().enumerate() {
+            // As `Iterator::max_by`: the last of equal maxima.
+            if s.heartline_m.z.total_cmp(&st[top].heartline_m.z).is_ge() {
+                top = i;
+            }
+            if s.in_loop {
+                first.get_or_insert(i);
+                last = Some(i);
+            }
+            rail_top_m = f64::max(rail_top_m, s.rail_m.z);
+            max_curvature_1_m = f64::max(max_curvature_1_m, s.curvature_vec_1_m.norm());
+            peak_roll_rad = f64::max(peak_roll_rad, s.roll_rad().abs());
+            inverted_at.push(inverted(s.pitch_rad));
+        }
+        let top_s_m = st[top].s_m;
         PathFigures {
-            top: path.top_index(),
-            first,
-            last,
-            inverted: st.iter().map(|s| inverted(s.pitch_rad)).collect(),
-            loop_height_m: path.loop_height_m(),
-            rail_height_m: path.rail_height_m(),
+            // The first station at the top's arc length (a curvature step samples it twice).
+            top: st.iter().position(|s| s.s_m == top_s_m).unwrap_or(0),
+            first: first.expect("a loop has stations"),
+            last: last.expect("a loop has stations"),
+            inverted: inverted_at,
+            loop_height_m: st[top].heartline_m.z - st[0].heartline_m.z,
+            rail_height_m: rail_top_m - st[0].rail_m.z,
             path_length_m: path.loop_length_m(),
-            min_radius_m: path.min_radius_m(),
-            peak_roll_deg: path.peak_roll_rad().to_degrees(),
+            min_radius_m: 1.0 / max_curvature_1_m,
+            peak_roll_deg: peak_roll_rad.to_degrees(),
         }
     }
 }
@@ -275,6 +292,34 @@ pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<Ca
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // The one-pass path figures must be the centreline's own, to the bit, on a spread loop
+    // (rail, roll and curvature all vary) and a planar one.
+    #[test]
+    fn path_figures_are_the_centrelines_own() {
+        use crate::brief::ShapeKind;
+        use crate::shape::family;
+        for kind in ShapeKind::ALL {
+            let f = family(kind).unwrap();
+            let p = f
+                .curvature_with_leads(&f.default_shape(), 9.0, 6.0)
+                .unwrap();
+            for shift in [0.0, 2.5] {
+                let path = Centreline::build_shifted(&p, 1.1, 0.3, shift);
+                let figs = PathFigures::of(&path);
+                assert_eq!(figs.top, path.top_index());
+                let pairs = [
+                    (figs.loop_height_m, path.loop_height_m()),
+                    (figs.rail_height_m, path.rail_height_m()),
+                    (figs.min_radius_m, path.min_radius_m()),
+                    (figs.peak_roll_deg, path.peak_roll_rad().to_degrees()),
+                ];
+                for (got, want) in pairs {
+                    assert_eq!(got.to_bits(), want.to_bits(), "{kind} shift {shift}");
+                }
+            }
+        }
+    }
 
     // The inverted test must be `cos θ < 0` exactly (the library cosine is the reference),
     // including the floats next to π/2 and 3π/2 and pitches outside one turn.
