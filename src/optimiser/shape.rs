@@ -417,11 +417,11 @@ const SCAN_1D: usize = 3 * super::SCAN;
 const SCAN_POINTS: usize = 40;
 /// Starts of the local polish over every parameter (the best slices, or the best scan points of
 /// a two-parameter family), in order of cost.
-const POLISH_STARTS: usize = 2;
+const POLISH_STARTS: usize = 3;
 /// Intervals between the values of the last parameter that the slices hold, and the
 /// Nelder–Mead iterations of each slice.
 const SLICES: usize = 6;
-const SLICE_ITERS: u64 = 30;
+const SLICE_ITERS: u64 = 40;
 /// Nelder–Mead iterations per polish.
 const POLISH_ITERS: u64 = 40;
 /// Edge of the polish's first simplex, as a fraction of each parameter's range.
@@ -494,8 +494,7 @@ fn global_search(
         let mut slices: Vec<(f64, Vec<f64>)> = Vec::with_capacity(SLICES + 1);
         for k in 0..=SLICES {
             start[last] = lo + (hi - lo) * k as f64 / SLICES as f64;
-            let (c, p, _) =
-                polish_some(problem, bounds, &start, &free, POLISH_STEP, SLICE_ITERS)?;
+            let (c, p, _) = polish_some(problem, bounds, &start, &free, POLISH_STEP, SLICE_ITERS)?;
             start = p.clone();
             slices.push((c, p));
         }
