@@ -78,22 +78,92 @@ pub struct Summary {
 
 /// Reduce a ride to its key figures.
 pub fn summarise(path: &Centreline, ride: &Ride) -> Summary {
-    summarise_car(path, ride, 0)
+    summarise_car(path, &PathFigures::of(path), ride, 0)
+}
+
+/// The figures of the path itself, the same for every car: worked out once per ride, not per car.
+struct PathFigures {
+    top: usize,
+    /// First and last station on the loop proper.
+    first: usize,
+    last: usize,
+    /// Whether each station is inverted (the rider's seat points upwards: cos θ < 0).
+    inverted: Vec<bool>,
+    loop_height_m: f64,
+    rail_height_m: f64,
+    path_length_m: f64,
+    min_radius_m: f64,
+    peak_roll_deg: f64,
+}
+
+impl PathFigures {
+    /// One pass over the stations for what [`Centreline`]'s own methods (`top_index`,
+    /// `loop_height_m`, `rail_height_m`, `min_radius_m`, `peak_roll_rad`) would each find in
+    /// passes of their own: the same folds in the same order, so the same bits.
+    fn of(path: &Centreline) -> PathFigures {
+        let st = &path.stations;
+        let mut top = 0;
+        let (mut first, mut last) = (None, None);
+        let mut rail_top_m = f64::MIN;
+        let mut max_curvature_1_m = 0.0;
+        let mut peak_roll_rad = 0.0;
+        let mut inverted_at = Vec::with_capacity(st.len());
+        for (i, s) in st.iter().enumerate() {
+            // As `Iterator::max_by`: the last of equal maxima.
+            if s.heartline_m.z.total_cmp(&st[top].heartline_m.z).is_ge() {
+                top = i;
+            }
+            if s.in_loop {
+                first.get_or_insert(i);
+                last = Some(i);
+            }
+            rail_top_m = f64::max(rail_top_m, s.rail_m.z);
+            max_curvature_1_m = f64::max(max_curvature_1_m, s.curvature_vec_1_m.norm());
+            peak_roll_rad = f64::max(peak_roll_rad, s.roll_rad().abs());
+            inverted_at.push(inverted(s.pitch_rad));
+        }
+        let top_s_m = st[top].s_m;
+        PathFigures {
+            // The first station at the top's arc length (a curvature step samples it twice).
+            top: st.iter().position(|s| s.s_m == top_s_m).unwrap_or(0),
+            first: first.expect("a loop has stations"),
+            last: last.expect("a loop has stations"),
+            inverted: inverted_at,
+            loop_height_m: st[top].heartline_m.z - st[0].heartline_m.z,
+            rail_height_m: rail_top_m - st[0].rail_m.z,
+            path_length_m: path.loop_length_m(),
+            min_radius_m: 1.0 / max_curvature_1_m,
+            peak_roll_deg: peak_roll_rad.to_degrees(),
+        }
+    }
+}
+
+/// `cos θ < 0`, to the bit, mostly without the cosine: away from its zeros (π/2 and 3π/2, with a
+/// band of 1e-6 rad that dwarfs both the library cosine's error and the rounding of the constants)
+/// the sign of cos θ on [0, 2π] is which side of them θ lies; near them, or outside [0, 2π], the
+/// cosine decides.
+fn inverted(pitch_rad: f64) -> bool {
+    use std::f64::consts::{FRAC_PI_2, PI};
+    const BAND_RAD: f64 = 1e-6;
+    let (up, down) = (FRAC_PI_2, 3.0 * FRAC_PI_2);
+    let clear = (pitch_rad - up).abs() > BAND_RAD && (pitch_rad - down).abs() > BAND_RAD;
+    if clear && (0.0..=2.0 * PI).contains(&pitch_rad) {
+        pitch_rad > up && pitch_rad < down
+    } else {
+        pitch_rad.cos() < 0.0
+    }
 }
 
 /// The key figures of car `car`'s ride (its points are in station order).
-fn summarise_car(path: &Centreline, ride: &Ride, car: usize) -> Summary {
+fn summarise_car(path: &Centreline, figs: &PathFigures, ride: &Ride, car: usize) -> Summary {
     let st = &path.stations;
     let pts = &ride.points;
-    let top = path.top_index();
-    let in_loop: Vec<usize> = (0..st.len()).filter(|&i| st[i].in_loop).collect();
-    let (first, last) = (in_loop[0], in_loop[in_loop.len() - 1]);
+    let (top, first, last) = (figs.top, figs.first, figs.last);
     let peak = (0..pts.len())
         .max_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g))
         .unwrap_or(0);
-    // Inverted: the rider's seat points upwards, pitch past 90° (cos θ < 0).
     let least_inverted = (0..pts.len())
-        .filter(|&i| st[i].pitch_rad.cos() < 0.0)
+        .filter(|&i| figs.inverted[i])
         .min_by(|&a, &b| pts[a].normal_g.total_cmp(&pts[b].normal_g));
     let onset = (0..pts.len())
         .max_by(|&a, &b| pts[a].onset_g_s.abs().total_cmp(&pts[b].onset_g_s.abs()))
@@ -107,11 +177,11 @@ fn summarise_car(path: &Centreline, ride: &Ride, car: usize) -> Summary {
         (0..pts.len()).map(f).fold(init, pick)
     };
     Summary {
-        loop_height_m: path.loop_height_m(),
-        rail_height_m: path.rail_height_m(),
-        path_length_m: path.loop_length_m(),
+        loop_height_m: figs.loop_height_m,
+        rail_height_m: figs.rail_height_m,
+        path_length_m: figs.path_length_m,
         footprint_length_m: st[last].heartline_m.x - st[first].heartline_m.x,
-        min_radius_m: path.min_radius_m(),
+        min_radius_m: figs.min_radius_m,
         peak_normal_g: pts[peak].normal_g,
         peak_normal_s_m: pts[peak].s_m,
         peak_normal_at: place(peak),
@@ -132,7 +202,7 @@ fn summarise_car(path: &Centreline, ride: &Ride, car: usize) -> Summary {
         min_tangential_g: fold(&|i| pts[i].tangential_g, f64::MAX, f64::min),
         exit_speed_m_s: pts[last].speed_m_s,
         time_in_loop_s: pts[last].time_s - pts[first].time_s,
-        peak_roll_deg: path.peak_roll_rad().to_degrees(),
+        peak_roll_deg: figs.peak_roll_deg,
     }
 }
 
@@ -163,11 +233,12 @@ pub struct CarSummary {
 /// with the lowest top load; exit speed and time in the loop are the rear car's, when the whole
 /// train has left the loop). For one car it is [`summarise`] exactly.
 pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<CarSummary>) {
+    let figs = PathFigures::of(path);
     let per: Vec<Summary> = train
         .cars
         .iter()
         .enumerate()
-        .map(|(j, r)| summarise_car(path, r, j))
+        .map(|(j, r)| summarise_car(path, &figs, r, j))
         .collect();
     let cars = per
         .iter()
@@ -216,4 +287,59 @@ pub fn summarise_train(path: &Centreline, train: &TrainRide) -> (Summary, Vec<Ca
     w.exit_speed_m_s = rear.exit_speed_m_s;
     w.time_in_loop_s = rear.time_in_loop_s;
     (w, cars)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // The one-pass path figures must be the centreline's own, to the bit, on a spread loop
+    // (rail, roll and curvature all vary) and a planar one.
+    #[test]
+    fn path_figures_are_the_centrelines_own() {
+        use crate::brief::ShapeKind;
+        use crate::shape::family;
+        for kind in ShapeKind::ALL {
+            let f = family(kind).unwrap();
+            let p = f
+                .curvature_with_leads(&f.default_shape(), 9.0, 6.0)
+                .unwrap();
+            for shift in [0.0, 2.5] {
+                let path = Centreline::build_shifted(&p, 1.1, 0.3, shift);
+                let figs = PathFigures::of(&path);
+                assert_eq!(figs.top, path.top_index());
+                let pairs = [
+                    (figs.loop_height_m, path.loop_height_m()),
+                    (figs.rail_height_m, path.rail_height_m()),
+                    (figs.min_radius_m, path.min_radius_m()),
+                    (figs.peak_roll_deg, path.peak_roll_rad().to_degrees()),
+                ];
+                for (got, want) in pairs {
+                    assert_eq!(got.to_bits(), want.to_bits(), "{kind} shift {shift}");
+                }
+            }
+        }
+    }
+
+    // The inverted test must be `cos θ < 0` exactly (the library cosine is the reference),
+    // including the floats next to π/2 and 3π/2 and pitches outside one turn.
+    #[test]
+    fn inverted_is_the_sign_of_the_cosine() {
+        use std::f64::consts::{FRAC_PI_2, PI};
+        let mut probes = vec![-1.0, -0.0, 0.0, PI, 2.0 * PI, 7.5, 3.0 * PI, f64::NAN];
+        for edge in [FRAC_PI_2, 3.0 * FRAC_PI_2] {
+            let mut x = edge;
+            let mut y = edge;
+            for _ in 0..64 {
+                x = x.next_up();
+                y = y.next_down();
+                probes.extend([x, y]);
+            }
+            probes.extend([edge, edge + 1e-6, edge - 1e-6, edge + 2e-6, edge - 2e-6]);
+        }
+        probes.extend((0..20_000).map(|i| i as f64 * 2.0 * PI / 20_000.0));
+        for p in probes {
+            assert_eq!(inverted(p), p.cos() < 0.0, "{p}");
+        }
+    }
 }

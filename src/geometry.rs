@@ -32,6 +32,9 @@
 pub mod fit;
 mod frame;
 
+use std::f64::consts::PI;
+use std::ops::ControlFlow;
+
 use nalgebra::Vector3;
 
 use crate::numeric::GL4;
@@ -93,63 +96,68 @@ impl Centreline {
         heartline_height_m: f64,
         spacing_m: f64,
     ) -> Centreline {
-        let mut stations = Vec::new();
-        let mut steps = Vec::new();
-        let (mut x, mut z) = (0.0, 0.0);
-        let mut piece = 0;
-        let loop_span_m = profile.loop_span_m();
-        let mut prev_end_curv: Option<f64> = None;
-        for (i, seg) in profile.segments().iter().enumerate() {
-            let s0 = profile.segment_start_m(i);
-            let theta0 = profile.segment_pitch_rad(i);
-            let curve = seg.piece();
-            let k_start = curve.curvature_1_m(0.0);
-            let n = ((seg.length_m / spacing_m).ceil() as usize).max(2);
-            // Even counts put a station on every segment midpoint too.
-            let n = n + n % 2;
-            let first = match prev_end_curv {
-                None => 0,
-                Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
-                    steps.push(CurvatureStep {
-                        s_m: s0,
-                        before_1_m: k_prev,
-                        after_1_m: k_start,
-                    });
-                    piece += 1;
-                    0
-                }
-                // Continuous curvature: the previous segment's last station serves as this one's first.
-                Some(_) => 1,
-            };
-            // The start terms are worked out once per segment, not per station.
-            let mut walk = curve.walk(theta0, Accuracy::DEFAULT);
-            for j in first..=n {
-                let t = seg.length_m * j as f64 / n as f64;
-                let (dx, dz) = walk.to(t);
-                let s_m = s0 + t;
-                let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
-                stations.push(planar_station(
-                    s_m,
-                    x + dx,
-                    z + dz,
-                    theta0 + curve.turn_rad(t),
-                    curve.curvature_1_m(t),
-                    heartline_height_m,
-                    piece,
-                    in_loop,
-                ));
-            }
-            let (dx, dz) = walk.end();
-            x += dx;
-            z += dz;
-            prev_end_curv = Some(curve.curvature_1_m(seg.length_m));
-        }
+        // Room for every station up front: the search builds thousands of paths.
+        let segments = profile.segments().len();
+        let mut stations =
+            Vec::with_capacity((profile.length_m() / spacing_m) as usize + 3 * segments + 1);
+        let steps = sample_profile(profile, spacing_m, |p| {
+            stations.push(planar_station(p, heartline_height_m));
+            ControlFlow::Continue(())
+        });
         Centreline {
             stations,
             steps,
             heartline_height_m,
-            loop_span_m,
+            loop_span_m: profile.loop_span_m(),
         }
+    }
+
+    /// [`Centreline::build`]`(profile, _, spacing_m).loop_height_m()`, to the bit, without the
+    /// stations: the same samples, but no frames, rail or station list, and the walk ends once
+    /// the path is past its top and can only fall (what the shape search asks of every shape).
+    pub fn loop_height_only(profile: &CurvatureProfile, spacing_m: f64) -> f64 {
+        // The walk may stop at a sample past the top when the pitch there lies in (π + 0.1, 2π)
+        // and no later piece bends the other way: the pitch then only grows to the exit's 2π,
+        // so every later quadrature term of z (w·h·sin θ) is ≤ 0 and no later sample climbs
+        // back above this one, itself clearly below the top (checked with a margin that dwarfs
+        // rounding). Where a piece further on may turn back, the walk goes to the end.
+        let bends_back: Vec<bool> = profile
+            .segments()
+            .iter()
+            .map(|seg| seg.piece().min_curvature_1_m() < 0.0)
+            .collect();
+        let segs = profile.segments();
+        let end_pitch_rad = segs.last().map_or(0.0, |seg| {
+            profile.segment_pitch_rad(segs.len() - 1) + seg.piece().turn_rad(seg.length_m)
+        });
+        // A path that turns past the exit's 2π could climb again: walk it to the end.
+        let mut last_bend_back = if end_pitch_rad <= 2.0 * PI + 1e-12 {
+            bends_back.iter().rposition(|&b| b)
+        } else {
+            Some(segs.len())
+        };
+        // Past 2π by rounding, sin θ ≤ 1e-12: z may rise by that much per metre still to go.
+        let slack_m = 1e-9 + 1e-11 * profile.length_m();
+        let mut first_z = None;
+        let mut top_z = f64::MIN;
+        sample_profile(profile, spacing_m, |p| {
+            let z0 = *first_z.get_or_insert(p.z_m);
+            // As `top`: the last maximum in total order.
+            if p.z_m.total_cmp(&top_z).is_ge() {
+                top_z = p.z_m;
+            }
+            if last_bend_back.is_some_and(|i| i < p.segment) {
+                last_bend_back = None;
+            }
+            let falling = p.pitch_rad > PI + 0.1 && p.pitch_rad < 2.0 * PI - 0.1;
+            let clear = p.z_m + slack_m * (1.0 + (top_z - z0).abs()) < top_z;
+            if last_bend_back.is_none() && falling && clear {
+                ControlFlow::Break(())
+            } else {
+                ControlFlow::Continue(())
+            }
+        });
+        top_z - first_z.unwrap_or(0.0)
     }
 
     /// The highest heartline station.
@@ -196,25 +204,93 @@ impl Centreline {
     }
 }
 
-#[allow(clippy::too_many_arguments)]
-fn planar_station(
+/// One planar sample of a profile: where [`sample_profile`] puts a station.
+#[derive(Debug, Clone, Copy)]
+struct PlanarSample {
     s_m: f64,
-    x: f64,
-    z: f64,
+    x_m: f64,
+    z_m: f64,
     pitch_rad: f64,
     curvature_1_m: f64,
-    heartline_height_m: f64,
     piece: usize,
     in_loop: bool,
-) -> Station {
+    /// Index of the profile segment it lies on.
+    segment: usize,
+}
+
+/// Sample `profile` every `spacing_m` or closer (every segment boundary is a sample), handing each
+/// sample to `visit` in order until it breaks; returns the curvature steps met on the way. At a
+/// curvature step the boundary is sampled twice, once with the curvature before and once after.
+fn sample_profile(
+    profile: &CurvatureProfile,
+    spacing_m: f64,
+    mut visit: impl FnMut(PlanarSample) -> ControlFlow<()>,
+) -> Vec<CurvatureStep> {
+    let mut steps = Vec::new();
+    let (mut x, mut z) = (0.0, 0.0);
+    let mut piece = 0;
+    let loop_span_m = profile.loop_span_m();
+    let mut prev_end_curv: Option<f64> = None;
+    for (i, seg) in profile.segments().iter().enumerate() {
+        let s0 = profile.segment_start_m(i);
+        let theta0 = profile.segment_pitch_rad(i);
+        let curve = seg.piece();
+        let k_start = curve.curvature_1_m(0.0);
+        let n = ((seg.length_m / spacing_m).ceil() as usize).max(2);
+        // Even counts put a station on every segment midpoint too.
+        let n = n + n % 2;
+        let first = match prev_end_curv {
+            None => 0,
+            Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
+                steps.push(CurvatureStep {
+                    s_m: s0,
+                    before_1_m: k_prev,
+                    after_1_m: k_start,
+                });
+                piece += 1;
+                0
+            }
+            // Continuous curvature: the previous segment's last station serves as this one's first.
+            Some(_) => 1,
+        };
+        // The start terms are worked out once per segment, not per station.
+        let mut walk = curve.walk(theta0, Accuracy::DEFAULT);
+        for j in first..=n {
+            let t = seg.length_m * j as f64 / n as f64;
+            let (dx, dz) = walk.to(t);
+            let s_m = s0 + t;
+            let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
+            let sample = PlanarSample {
+                s_m,
+                x_m: x + dx,
+                z_m: z + dz,
+                pitch_rad: theta0 + curve.turn_rad(t),
+                curvature_1_m: curve.curvature_1_m(t),
+                piece,
+                in_loop,
+                segment: i,
+            };
+            if visit(sample).is_break() {
+                return steps;
+            }
+        }
+        let (dx, dz) = walk.end();
+        x += dx;
+        z += dz;
+        prev_end_curv = Some(curve.curvature_1_m(seg.length_m));
+    }
+    steps
+}
+
+fn planar_station(p: PlanarSample, heartline_height_m: f64) -> Station {
     // Inside the loop the rider's head points to the centre of curvature.
-    let frame = RiderFrame::planar(pitch_rad, curvature_1_m);
-    let heartline_m = Vector3::new(x, 0.0, z);
+    let frame = RiderFrame::planar(p.pitch_rad, p.curvature_1_m);
+    let heartline_m = Vector3::new(p.x_m, 0.0, p.z_m);
     let place = StationPlace {
-        s_m,
-        pitch_rad,
-        piece,
-        in_loop,
+        s_m: p.s_m,
+        pitch_rad: p.pitch_rad,
+        piece: p.piece,
+        in_loop: p.in_loop,
     };
     let rail_m = heartline_m - heartline_height_m * frame.head;
     Station::from_frame(place, heartline_m, rail_m, frame)
@@ -366,6 +442,27 @@ mod tests {
             assert!((last.pitch_rad - 2.0 * PI).abs() < 1e-12);
             // The rail sits heartline_height below the heartline on level track.
             assert!((last.rail_m.z + 1.1).abs() < 1e-12);
+        }
+    }
+
+    // The height-only walk must give the full build's loop height to the bit (it stands in for
+    // it in the shape search), for every family, shapes across their bounds, and sizes.
+    #[test]
+    fn height_only_walk_matches_the_full_build() {
+        for kind in ShapeKind::ALL {
+            let f = family(kind).unwrap();
+            let bounds = f.shape_bounds();
+            for u in [0.0, 0.13, 0.5, 0.77, 1.0] {
+                let shape: Vec<f64> = bounds.iter().map(|(lo, hi)| lo + u * (hi - lo)).collect();
+                for (r, spacing) in [(1.0, 0.01), (9.0, 0.3), (14.0, 0.05)] {
+                    let Ok(p) = f.curvature(&shape, r) else {
+                        continue;
+                    };
+                    let full = Centreline::build(&p, 1.1, spacing).loop_height_m();
+                    let fast = Centreline::loop_height_only(&p, spacing);
+                    assert_eq!(full.to_bits(), fast.to_bits(), "{kind} {shape:?} r {r}");
+                }
+            }
         }
     }
 

@@ -7,11 +7,18 @@ use super::{Conditions, LoadPoint, LoadStep, Ride, Stall};
 use crate::geometry::Centreline;
 use crate::units::STANDARD_GRAVITY_M_S2 as G;
 
-/// Specific force the seat applies at speed² `u`, before the tangential loss term.
-fn perpendicular_force(u: f64, kvec: &Vector3<f64>, tangent: &Vector3<f64>) -> Vector3<f64> {
+/// Specific force the seat applies at speed² `u`, before the tangential loss term: the
+/// centripetal part plus `lift`, the part of "up" (−g⃗) perpendicular to the track
+/// ([`lift_of`]).
+fn perpendicular_force(u: f64, kvec: &Vector3<f64>, lift: &Vector3<f64>) -> Vector3<f64> {
+    u * kvec + lift
+}
+
+/// The part of "up" (−g⃗) perpendicular to the track of unit tangent `tangent`: the speed-free
+/// half of the seat's force, worked out once per place rather than at every speed tried there.
+pub(super) fn lift_of(tangent: &Vector3<f64>) -> Vector3<f64> {
     let up = Vector3::new(0.0, 0.0, G);
-    // Centripetal part plus the part of "up" (−g⃗) perpendicular to the track.
-    u * kvec + (up - up.dot(tangent) * tangent)
+    up - up.dot(tangent) * tangent
 }
 
 /// How the train moves: at every entry of its schedule, the speed², the loss rate d(losses)/ds,
@@ -27,19 +34,16 @@ struct Motion {
 }
 
 /// The integrator's means over the cars at one entry of the schedule, of a function of a car's
-/// height, unit tangent and curvature vector.
+/// curvature vector and lift ([`lift_of`]).
 #[inline]
-fn mean(places: &Places, f: impl Fn(f64, &Vector3<f64>, &Vector3<f64>) -> f64) -> f64 {
+fn mean(places: &Places, f: impl Fn(&Vector3<f64>, &Vector3<f64>) -> f64) -> f64 {
     match places {
         // A lone car's mean is its own value (the sum below starts from −0, so it would give
         // that value over 1); reading it off the station skips the copy and the division on the
         // integrator's critical path: the point mass runs hundreds of times per design.
-        Places::Lone(st) => f(st.heartline_m.z, &st.tangent, &st.curvature_vec_1_m),
+        Places::Lone(st) => f(&st.curvature_vec_1_m, &lift_of(&st.tangent)),
         Places::Train(buf) => {
-            buf.iter()
-                .map(|c| f(c.z_m, &c.tangent, &c.kvec))
-                .sum::<f64>()
-                / buf.len() as f64
+            buf.iter().map(|c| f(&c.kvec, &c.lift)).sum::<f64>() / buf.len() as f64
         }
     }
 }
@@ -59,9 +63,7 @@ fn integrate(path: &Centreline, cond: &Conditions, train: &Train) -> Result<Moti
     let rolling = law.rolling_resistance != 0.0;
     let loss_rate = |u: f64, at: &Places| {
         let contact = if rolling {
-            mean(at, |_, tangent, kvec| {
-                perpendicular_force(u, kvec, tangent).norm()
-            })
+            mean(at, |kvec, lift| perpendicular_force(u, kvec, lift).norm())
         } else {
             0.0
         };
@@ -123,7 +125,7 @@ fn car_rides(path: &Centreline, motion: &Motion) -> Vec<Ride> {
     for (e, entry) in motion.entries.iter().enumerate() {
         let s = &st[entry.station];
         let u = motion.speed_sq[e];
-        let f = perpendicular_force(u, &s.curvature_vec_1_m, &s.tangent);
+        let f = perpendicular_force(u, &s.curvature_vec_1_m, &lift_of(&s.tangent));
         // Felt forward load a_t + g·sin θⱼ = g·(sin θⱼ − mean sin θ) − (losses per metre)/2.
         // A lone car has no couplers: its first term is exactly zero, and leaving it out
         // keeps the sign of a zero load (−0 on lossless level track).

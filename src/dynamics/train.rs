@@ -4,6 +4,7 @@
 use nalgebra::Vector3;
 
 use super::Ride;
+use super::ride::lift_of;
 use crate::geometry::{Centreline, Station};
 
 /// A train: `cars` equal cars, `car_pitch_m` apart along the heartline (car 0 leads).
@@ -38,12 +39,31 @@ pub struct TrainRide {
     pub cars: Vec<Ride>,
 }
 
-/// Where a car is: height, unit tangent and curvature vector of the heartline there.
+/// Where a car is: height, unit tangent and curvature vector of the heartline there, and the
+/// lift there ([`lift_of`]; zero where the contact force is not needed).
 #[derive(Debug, Clone, Copy)]
 pub(super) struct CarPlace {
     pub z_m: f64,
     pub tangent: Vector3<f64>,
     pub kvec: Vector3<f64>,
+    pub lift: Vector3<f64>,
+}
+
+impl CarPlace {
+    /// With the lift worked out when the contact force is needed (`with_curvature`).
+    fn new(z_m: f64, tangent: Vector3<f64>, kvec: Vector3<f64>, with_curvature: bool) -> Self {
+        let lift = if with_curvature {
+            lift_of(&tangent)
+        } else {
+            Vector3::zeros()
+        };
+        CarPlace {
+            z_m,
+            tangent,
+            kvec,
+            lift,
+        }
+    }
 }
 
 /// The path at any arc length: cubic Hermite height (dz/ds = T_z, error O(h⁴)) and linear tangent
@@ -58,18 +78,12 @@ fn place_at(path: &Centreline, s: f64, cursor: &mut usize, with_curvature: bool)
     let st = &path.stations;
     let (first, last) = (&st[0], &st[st.len() - 1]);
     if s <= first.s_m {
-        return CarPlace {
-            z_m: first.heartline_m.z + first.tangent.z * (s - first.s_m),
-            tangent: first.tangent,
-            kvec: Vector3::zeros(),
-        };
+        let z_m = first.heartline_m.z + first.tangent.z * (s - first.s_m);
+        return CarPlace::new(z_m, first.tangent, Vector3::zeros(), with_curvature);
     }
     if s >= last.s_m {
-        return CarPlace {
-            z_m: last.heartline_m.z + last.tangent.z * (s - last.s_m),
-            tangent: last.tangent,
-            kvec: Vector3::zeros(),
-        };
+        let z_m = last.heartline_m.z + last.tangent.z * (s - last.s_m);
+        return CarPlace::new(z_m, last.tangent, Vector3::zeros(), with_curvature);
     }
     // The partition point of `s_m <= s` over the (non-decreasing) station arc lengths.
     let mut hi = (*cursor).min(st.len());
@@ -84,11 +98,8 @@ fn place_at(path: &Centreline, s: f64, cursor: &mut usize, with_curvature: bool)
     let (a, b) = (&st[hi - 1], &st[hi]);
     let h = b.s_m - a.s_m;
     if h <= 0.0 {
-        return CarPlace {
-            z_m: a.heartline_m.z,
-            tangent: a.tangent,
-            kvec: a.curvature_vec_1_m,
-        };
+        let z_m = a.heartline_m.z;
+        return CarPlace::new(z_m, a.tangent, a.curvature_vec_1_m, with_curvature);
     }
     let t = (s - a.s_m) / h;
     let (t2, t3) = (t * t, t * t * t);
@@ -102,11 +113,7 @@ fn place_at(path: &Centreline, s: f64, cursor: &mut usize, with_curvature: bool)
     } else {
         Vector3::zeros()
     };
-    CarPlace {
-        z_m: z,
-        tangent,
-        kvec,
-    }
+    CarPlace::new(z, tangent, kvec, with_curvature)
 }
 
 /// One step of the ride: car `car` passes station `station` while the lead car is at `s_lead_m`.
@@ -170,6 +177,22 @@ pub(super) struct Tracker {
     with_curvature: bool,
     /// Sliding mode (no rolling resistance), else `None`.
     running: Option<Sliding>,
+    /// With rolling resistance: the last place worked out for each station and car offset.
+    memo: Vec<Memo>,
+}
+
+/// A place remembered. At entry (station i, car j) car k sits at σᵢ + (j − k)·p, so the same
+/// place recurs for every (j, k) with the same offset: up to N times. Its arc length is worked
+/// out as (σᵢ + j·p) − k·p, which usually but not always rounds the same way for each pair, so
+/// a place is reused only when its arc length has the same bits: the reuse is exact.
+#[derive(Debug, Clone, Copy)]
+struct Memo {
+    /// Bits of the arc length it is for (`u64::MAX`, a NaN no arithmetic makes: none yet).
+    s_bits: u64,
+    place: CarPlace,
+    /// The car's moving position after placing it there (`None`: off the path's ends, where
+    /// [`place_at`] leaves it alone).
+    cursor: Option<usize>,
 }
 
 /// The sliding sums: per station, the car whose entry they are for (+1) and the sums of height
@@ -180,19 +203,26 @@ impl Tracker {
     /// For `cars` cars on `path`; `with_curvature` whether the cars' contact forces are needed
     /// (rolling resistance): then every car is placed at every entry, otherwise the means slide.
     pub(super) fn new(path: &Centreline, cars: usize, with_curvature: bool) -> Tracker {
-        let unset = CarPlace {
-            z_m: 0.0,
-            tangent: Vector3::zeros(),
-            kvec: Vector3::zeros(),
-        };
+        let unset = CarPlace::new(0.0, Vector3::zeros(), Vector3::zeros(), false);
         let n = if cars > 1 { cars } else { 0 };
         let running =
             (n > 0 && !with_curvature).then(|| (vec![(0, 0.0, 0.0); path.stations.len()], 0, 0));
+        let memo = if n > 0 && with_curvature {
+            let none = Memo {
+                s_bits: u64::MAX,
+                place: unset,
+                cursor: None,
+            };
+            vec![none; path.stations.len() * (2 * n - 1)]
+        } else {
+            Vec::new()
+        };
         Tracker {
             buf: vec![unset; n],
             cursors: vec![0; n],
             with_curvature,
             running,
+            memo,
         }
     }
 
@@ -227,24 +257,41 @@ impl Tracker {
 
     /// Every car's place at `entry`; the car the entry names is exactly on its station.
     fn place_all(&mut self, path: &Centreline, entry: &Entry, pitch_m: f64) {
-        let st = &path.stations[entry.station];
+        let stations = &path.stations;
+        let st = &stations[entry.station];
+        let (ends_m, n) = (
+            (stations[0].s_m, stations[stations.len() - 1].s_m),
+            self.buf.len(),
+        );
         let with_curvature = self.with_curvature;
+        let memo = &mut self.memo;
         for (k, (slot, cursor)) in self.buf.iter_mut().zip(&mut self.cursors).enumerate() {
-            *slot = if k == entry.car {
+            if k == entry.car {
                 *cursor = entry.station + 1;
-                CarPlace {
-                    z_m: st.heartline_m.z,
-                    tangent: st.tangent,
-                    kvec: st.curvature_vec_1_m,
-                }
-            } else {
-                place_at(
-                    path,
-                    entry.s_lead_m - k as f64 * pitch_m,
-                    cursor,
-                    with_curvature,
-                )
-            };
+                let (z_m, kvec) = (st.heartline_m.z, st.curvature_vec_1_m);
+                *slot = CarPlace::new(z_m, st.tangent, kvec, with_curvature);
+                continue;
+            }
+            let s = entry.s_lead_m - k as f64 * pitch_m;
+            if memo.is_empty() {
+                *slot = place_at(path, s, cursor, with_curvature);
+                continue;
+            }
+            // Offset-major: the places of one offset are met in path order, so each offset's
+            // row is read front to back (the whole table would not stay in cache).
+            let m = &mut memo[((n - 1 + entry.car) - k) * stations.len() + entry.station];
+            if m.s_bits != s.to_bits() {
+                let place = place_at(path, s, cursor, with_curvature);
+                let on_path = s > ends_m.0 && s < ends_m.1;
+                *m = Memo {
+                    s_bits: s.to_bits(),
+                    place,
+                    cursor: on_path.then_some(*cursor),
+                };
+            } else if let Some(c) = m.cursor {
+                *cursor = c;
+            }
+            *slot = m.place;
         }
     }
 
@@ -301,6 +348,42 @@ mod tests {
             if s > st[0].s_m && s < end {
                 assert_eq!(cursor.min(st.len() - 1), hi, "s = {s}");
             }
+        }
+    }
+
+    // Remembered places must be exactly the places worked out afresh: every car at every entry,
+    // to the bit (the golden outputs depend on it), for short and long trains.
+    #[test]
+    fn remembered_places_are_fresh_places() {
+        let path = clothoid_path();
+        for (cars, pitch) in [(2, 2.5), (12, 2.5), (40, 1.9)] {
+            let entries = schedule(&path, cars, pitch);
+            let mut tracker = Tracker::new(&path, cars, true);
+            // Fresh places with their own moving positions (exact wherever they start, as the
+            // test above shows).
+            let mut cursors = vec![0; cars];
+            for e in &entries {
+                tracker.advance(&path, e, pitch);
+                let Places::Train(buf) = tracker.places(&path, e) else {
+                    panic!("a train has places");
+                };
+                for (k, got) in buf.iter().enumerate() {
+                    if k == e.car {
+                        continue;
+                    }
+                    let s = e.s_lead_m - k as f64 * pitch;
+                    let want = place_at(&path, s, &mut cursors[k], true);
+                    assert_eq!(
+                        got.z_m.to_bits(),
+                        want.z_m.to_bits(),
+                        "{cars} cars, s = {s}"
+                    );
+                    assert_eq!((got.tangent, got.kvec), (want.tangent, want.kvec));
+                    assert_eq!(got.lift, want.lift);
+                }
+            }
+            let filled = tracker.memo.iter().filter(|m| m.s_bits != u64::MAX).count();
+            assert!(filled > 0, "{cars} cars: nothing remembered");
         }
     }
 

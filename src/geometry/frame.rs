@@ -46,8 +46,12 @@ impl RiderFrame {
     /// is `head` (unit, perpendicular to r′): T = r′/|r′| and dT/ds = (r″ − (r″·T)T)/|r′|².
     pub fn from_derivatives(d1: Vector3<f64>, d2: Vector3<f64>, head: Vector3<f64>) -> RiderFrame {
         let speed = d1.norm();
-        let tangent = d1 / speed;
-        let curvature_vec_1_m = (d2 - d2.dot(&tangent) * tangent) / (speed * speed);
+        // In arc length (a planar loop, or the level track of a spread one) |r′| rounds to 1
+        // exactly, and x / 1 = x in IEEE arithmetic: skip the five divisions, same bits.
+        let unit = speed == 1.0;
+        let tangent = if unit { d1 } else { d1 / speed };
+        let bend = d2 - d2.dot(&tangent) * tangent;
+        let curvature_vec_1_m = if unit { bend } else { bend / (speed * speed) };
         RiderFrame {
             tangent,
             head,

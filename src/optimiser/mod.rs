@@ -108,7 +108,7 @@ pub fn evaluate_shifted(
 /// Heartline height per metre of top radius for a shape (geometry only; loops of one shape are similar).
 pub fn height_per_radius(kind: ShapeKind, shape: &[f64]) -> Option<f64> {
     let p = family(kind)?.curvature(shape, 1.0).ok()?;
-    Some(Centreline::build(&p, 0.0, 0.01).loop_height_m())
+    Some(Centreline::loop_height_only(&p, 0.01))
 }
 
 /// Design the loop the brief asks for, with its own shape family: search the shape and size, then

@@ -39,6 +39,9 @@ impl CurvePiece for Arc {
     fn max_abs_curvature_1_m(&self) -> f64 {
         self.curvature_1_m.abs()
     }
+    fn min_curvature_1_m(&self) -> f64 {
+        self.curvature_1_m
+    }
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> ArcWalk {
         ArcWalk {
             arc: *self,

@@ -121,6 +121,10 @@ impl CurvePiece for Clothoid {
         let ends = [self.curvature_1_m(0.0), self.curvature_1_m(self.length_m)];
         ends[0].abs().max(ends[1].abs())
     }
+    fn min_curvature_1_m(&self) -> f64 {
+        self.curvature_1_m(0.0)
+            .min(self.curvature_1_m(self.length_m))
+    }
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> ClothoidWalk {
         ClothoidWalk {
             clothoid: *self,

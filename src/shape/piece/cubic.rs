@@ -28,6 +28,34 @@ pub struct CubicWalk {
     sum: (f64, f64),
 }
 
+impl Cubic {
+    /// κ at the ends and wherever the slope 3c3·t² + 2c2·t + c1 vanishes inside: every
+    /// candidate for an extreme of κ on the piece.
+    fn extremes(&self) -> impl Iterator<Item = f64> + '_ {
+        let len = self.length_m;
+        let [_, c1, c2, c3] = self.coeffs;
+        let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
+        let mut roots = [f64::NAN; 2];
+        if a.abs() > 1e-300 {
+            let disc = b * b - 4.0 * a * c;
+            if disc >= 0.0 {
+                roots = [
+                    (-b + disc.sqrt()) / (2.0 * a),
+                    (-b - disc.sqrt()) / (2.0 * a),
+                ];
+            }
+        } else if b.abs() > 1e-300 {
+            roots[0] = -c / b;
+        }
+        // NaN (no root) fails the range test.
+        let inside = roots.into_iter().filter(move |&r| r > 0.0 && r < len);
+        [0.0, len]
+            .into_iter()
+            .chain(inside)
+            .map(|t| self.curvature_1_m(t))
+    }
+}
+
 impl CurvePiece for Cubic {
     type Walk = CubicWalk;
     fn length_m(&self) -> f64 {
@@ -40,30 +68,10 @@ impl CurvePiece for Cubic {
         cubic_integral(&self.coeffs, t)
     }
     fn max_abs_curvature_1_m(&self) -> f64 {
-        // The extremes lie at the ends or where the slope 3c3·t² + 2c2·t + c1 vanishes.
-        let len = self.length_m;
-        let mut m = self
-            .curvature_1_m(0.0)
-            .abs()
-            .max(self.curvature_1_m(len).abs());
-        let [_, c1, c2, c3] = self.coeffs;
-        let (a, b, c) = (3.0 * c3, 2.0 * c2, c1);
-        let mut roots = Vec::new();
-        if a.abs() > 1e-300 {
-            let disc = b * b - 4.0 * a * c;
-            if disc >= 0.0 {
-                roots.push((-b + disc.sqrt()) / (2.0 * a));
-                roots.push((-b - disc.sqrt()) / (2.0 * a));
-            }
-        } else if b.abs() > 1e-300 {
-            roots.push(-c / b);
-        }
-        for r in roots {
-            if r > 0.0 && r < len {
-                m = m.max(self.curvature_1_m(r).abs());
-            }
-        }
-        m
+        self.extremes().fold(0.0, |m, k| m.max(k.abs()))
+    }
+    fn min_curvature_1_m(&self) -> f64 {
+        self.extremes().fold(f64::INFINITY, f64::min)
     }
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> CubicWalk {
         CubicWalk {
@@ -109,25 +117,44 @@ pub fn quadrature_displacement(
     let t = t0.abs().max(t1.abs());
     let kappa_bound = cubic_value(&coeffs.map(f64::abs), t);
     let len = (t1 - t0).abs();
-    let parts = ((len * kappa_bound / accuracy.max_turn_rad)
-        .max(len / accuracy.max_step_m)
-        .ceil() as usize)
-        .clamp(1, MAX_PARTS);
+    let parts =
+        ceil_to_usize((len * kappa_bound / accuracy.max_turn_rad).max(len / accuracy.max_step_m))
+            .clamp(1, MAX_PARTS);
     let h = (t1 - t0) / parts as f64;
     let coarse =
         h.abs() * kappa_bound <= accuracy.coarse_turn_rad && h.abs() <= accuracy.coarse_step_m;
     let rule: &[(f64, f64)] = if coarse { &GL4 } else { &GL8 };
     let (mut dx, mut dz) = (0.0, 0.0);
+    // Pitches first, then their sines and cosines, then the sums (in node order, as always): the
+    // library's sincos clobbers every vector register, so nothing else stays live across it.
+    let mut pitch = [0.0; 8];
+    let mut sin_cos = [(0.0, 0.0); 8];
     for p in 0..parts {
         let a = t0 + h * p as f64;
-        for &(node, w) in rule {
+        for (th, &(node, _)) in pitch.iter_mut().zip(rule) {
             let tau = a + 0.5 * h * (node + 1.0);
-            let th = theta0 + cubic_integral(coeffs, tau);
-            dx += 0.5 * h * w * th.cos();
-            dz += 0.5 * h * w * th.sin();
+            *th = theta0 + cubic_integral(coeffs, tau);
+        }
+        for (sc, th) in sin_cos.iter_mut().zip(&pitch[..rule.len()]) {
+            *sc = th.sin_cos();
+        }
+        for (&(_, w), &(sn, cs)) in rule.iter().zip(&sin_cos) {
+            dx += 0.5 * h * w * cs;
+            dz += 0.5 * h * w * sn;
         }
     }
     (dx, dz)
+}
+
+/// ⌈x⌉ as a count, exactly as `x.ceil() as usize` (NaN and negatives give 0, huge values
+/// saturate) without the library call `ceil` is on a baseline x86-64 target.
+fn ceil_to_usize(x: f64) -> usize {
+    let i = x as usize;
+    if (i as f64) < x {
+        i.saturating_add(1)
+    } else {
+        i
+    }
 }
 
 #[cfg(test)]
@@ -185,6 +212,31 @@ mod tests {
         }
     }
 
+    // The integer ceiling must be `f64::ceil` (the standard library's) cast to a count.
+    #[test]
+    fn integer_ceiling_is_the_ceiling() {
+        let probes = [
+            0.0,
+            -0.0,
+            0.3,
+            1.0,
+            1.0 + f64::EPSILON,
+            2.5,
+            1e15 + 0.5,
+            4503599627370497.0,
+            1e20,
+            -0.7,
+            -3.0,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            1e-300,
+        ];
+        for x in probes {
+            assert_eq!(ceil_to_usize(x), x.ceil() as usize, "{x}");
+        }
+    }
+
     // κ(t) = 2t − t² on [0, 3] peaks at t = 1 with κ = 1 inside, but |κ| is largest at the end,
     // |κ(3)| = 3; on [0, 2] the interior peak wins (calculus: κ' = 2 − 2t).
     #[test]
@@ -194,13 +246,17 @@ mod tests {
             coeffs: [0.0, 2.0, -1.0, 0.0],
         };
         assert_eq!(p.max_abs_curvature_1_m(), 3.0);
+        // Signed, the least κ is the end value −3 on [0, 3] and κ(0) = 0 on [0, 2].
+        assert_eq!(p.min_curvature_1_m(), -3.0);
         p.length_m = 2.0;
         assert_eq!(p.max_abs_curvature_1_m(), 1.0);
+        assert_eq!(p.min_curvature_1_m(), 0.0);
         // With a cubic term: κ = t³ − 3t has its extremes at t = ±1 (κ(1) = −2) on [0, 1.5].
         let q = Cubic {
             length_m: 1.5,
             coeffs: [0.0, -3.0, 0.0, 1.0],
         };
         assert!((q.max_abs_curvature_1_m() - 2.0).abs() < 1e-15);
+        assert!((q.min_curvature_1_m() + 2.0).abs() < 1e-15);
     }
 }

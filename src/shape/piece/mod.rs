@@ -84,6 +84,8 @@ pub trait CurvePiece {
     fn turn_rad(&self, t: f64) -> f64;
     /// The largest |κ| anywhere on the piece, 1/m.
     fn max_abs_curvature_1_m(&self) -> f64;
+    /// The least (signed) κ anywhere on the piece, 1/m: negative where the piece bends back.
+    fn min_curvature_1_m(&self) -> f64;
     /// Work out the station-independent terms for start pitch `theta0`, once per piece.
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> Self::Walk;
     /// Displacement (Δx, Δz) from the piece start to `t`, starting at pitch `theta0`. For many
@@ -146,6 +148,9 @@ impl CurvePiece for AnyPiece {
     }
     fn max_abs_curvature_1_m(&self) -> f64 {
         each_variant!(AnyPiece, self, p => p.max_abs_curvature_1_m())
+    }
+    fn min_curvature_1_m(&self) -> f64 {
+        each_variant!(AnyPiece, self, p => p.min_curvature_1_m())
     }
     fn walk(&self, theta0: f64, accuracy: Accuracy) -> AnyWalk {
         match self {

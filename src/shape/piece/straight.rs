@@ -30,6 +30,9 @@ impl CurvePiece for Straight {
     fn max_abs_curvature_1_m(&self) -> f64 {
         0.0
     }
+    fn min_curvature_1_m(&self) -> f64 {
+        0.0
+    }
     fn walk(&self, theta0: f64, _accuracy: Accuracy) -> StraightWalk {
         StraightWalk {
             length_m: self.length_m,
