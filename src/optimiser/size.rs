@@ -193,9 +193,10 @@ pub fn size_range(
 const HINT_STEP: f64 = 0.03;
 
 /// As [`size_range`], starting from `hint_m`, the upper bound of a neighbouring shape: a secant
-/// in 1/R from there finds the bounds ([`from_hint`]: 3 to 5 evaluations where the grid and Brent
-/// take 15 or so). Anything else (hint too far, a window narrower than the shape search's slack, no
-/// hint) runs the full search, so a hint changes only the cost, never the classification's rules.
+/// in 1/R from there finds the bounds, a narrow window's or a gap's lower bound exactly
+/// ([`from_hint`]: 4 to 6 evaluations where the grid and Brent take 15 or so). When a secant
+/// loses its root (a stall, a bound more than a factor 2 from the hint), or without a hint, the
+/// full grid search runs, so a hint changes only the cost, never the classification's rules.
 pub(crate) fn size_range_near(
     brief: &Brief,
     kind: ShapeKind,
