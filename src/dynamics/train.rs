@@ -181,6 +181,13 @@ pub(super) struct Tracker {
     memo: Vec<Memo>,
 }
 
+/// Largest table of remembered places (about 27 MB at 104 bytes a place). A long train on a
+/// finely sampled path would need stations × (2N − 1) of them (a 40-car demo design's
+/// verification took the process from 92 MB to 157 MB); past this size every place is worked out
+/// afresh, which gives the same bits (a place is reused only when its arc length has the same
+/// bits), only slower.
+const MEMO_MAX_ENTRIES: usize = 1 << 18;
+
 /// A place remembered. At entry (station i, car j) car k sits at σᵢ + (j − k)·p, so the same
 /// place recurs for every (j, k) with the same offset: up to N times. Its arc length is worked
 /// out as (σᵢ + j·p) − k·p, which usually but not always rounds the same way for each pair, so
@@ -207,13 +214,14 @@ impl Tracker {
         let n = if cars > 1 { cars } else { 0 };
         let running =
             (n > 0 && !with_curvature).then(|| (vec![(0, 0.0, 0.0); path.stations.len()], 0, 0));
-        let memo = if n > 0 && with_curvature {
+        let entries = path.stations.len() * (2 * n).saturating_sub(1);
+        let memo = if n > 0 && with_curvature && entries <= MEMO_MAX_ENTRIES {
             let none = Memo {
                 s_bits: u64::MAX,
                 place: unset,
                 cursor: None,
             };
-            vec![none; path.stations.len() * (2 * n - 1)]
+            vec![none; entries]
         } else {
             Vec::new()
         };
