@@ -422,13 +422,13 @@ const SCAN_POINTS: usize = 40;
 /// Starts of the local polish over every parameter (the best slices, or the best scan points of
 /// a two-parameter family), in order of cost.
 const POLISH_STARTS: usize = 3;
-/// Intervals between the values of the last parameter that the slices hold, and the
+/// Intervals between the values of the last parameter that the slices hold.
+const SLICES: usize = 6;
 /// Nelder–Mead iterations of each slice. The optimum of a slice often sits on a ridge where two
 /// limits meet (height falls about fifty times faster on one side than the other), which
 /// Nelder–Mead climbs slowly: at 40 iterations one slice of the gallery's sweep stopped half way
 /// up it and the search settled in another valley 1.5 cm lower (a relaxed brief came out 0.061 %
 /// shorter); 80 reach the ridge's top on the gallery grid and the monotone grid.
-const SLICES: usize = 6;
 const SLICE_ITERS: u64 = 80;
 /// Nelder–Mead iterations per polish.
 const POLISH_ITERS: u64 = 40;
