@@ -23,6 +23,7 @@
 pub mod chart;
 pub mod dxf;
 pub mod json;
+pub mod number;
 pub mod overlay;
 pub mod plot;
 pub mod publish;

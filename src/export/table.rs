@@ -42,19 +42,19 @@ pub const COLUMNS: [&str; 25] = [
     "lateral_z",
 ];
 
-/// Append one row of numbers (nine decimals) to `out`.
-fn push_row(out: &mut String, first: Option<usize>, values: &[f64]) {
-    use std::fmt::Write;
-    let mut sep = "";
+/// Append one row of numbers (nine decimals) to `out`, after the car index `first` if given.
+fn push_row(out: &mut Vec<u8>, first: Option<usize>, values: &[f64]) {
+    let mut sep: &[u8] = b"";
     if let Some(j) = first {
-        let _ = write!(out, "{j}");
-        sep = ",";
+        out.extend_from_slice(j.to_string().as_bytes());
+        sep = b",";
     }
     for v in values {
-        let _ = write!(out, "{sep}{v:.9}");
-        sep = ",";
+        out.extend_from_slice(sep);
+        super::number::push_fixed(out, *v, 9);
+        sep = b",";
     }
-    out.push('\n');
+    out.push(b'\n');
 }
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
@@ -65,9 +65,9 @@ pub fn loads_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
 /// The CSV bytes of any sampled path and its ride (also used by `check`).
 pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportError> {
     // About 25 numbers of ~13 characters per row.
-    let mut out = String::with_capacity((path.stations.len() + 1) * 25 * 14);
-    out.push_str(&COLUMNS.join(","));
-    out.push('\n');
+    let mut out = Vec::with_capacity((path.stations.len() + 1) * 25 * 14);
+    out.extend_from_slice(COLUMNS.join(",").as_bytes());
+    out.push(b'\n');
     for (st, p) in path.stations.iter().zip(&ride.points) {
         let h = st.heartline_m;
         let (t, u, l) = (st.tangent, st.head, st.left);
@@ -100,7 +100,7 @@ pub fn stations_csv(path: &Centreline, ride: &Ride) -> Result<Vec<u8>, ExportErr
         ];
         push_row(&mut out, None, &rec);
     }
-    Ok(out.into_bytes())
+    Ok(out)
 }
 
 /// Column names of the per-car table; units are in each name.
@@ -122,9 +122,9 @@ pub const CAR_COLUMNS: [&str; 10] = [
 pub fn cars_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
     let cars = &design.best.train.cars;
     let rows: usize = cars.iter().map(|r| r.points.len()).sum();
-    let mut out = String::with_capacity((rows + 1) * 10 * 14);
-    out.push_str(&CAR_COLUMNS.join(","));
-    out.push('\n');
+    let mut out = Vec::with_capacity((rows + 1) * 10 * 14);
+    out.extend_from_slice(CAR_COLUMNS.join(",").as_bytes());
+    out.push(b'\n');
     let pitch = design.best.train.train.car_pitch_m;
     for (j, ride) in cars.iter().enumerate() {
         for (st, p) in design.best.path.stations.iter().zip(&ride.points) {
@@ -142,5 +142,5 @@ pub fn cars_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
             push_row(&mut out, Some(j), &vals);
         }
     }
-    Ok(out.into_bytes())
+    Ok(out)
 }

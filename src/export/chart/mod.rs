@@ -119,7 +119,9 @@ pub fn points_attr(pts: &[(f64, f64)]) -> String {
         if k > 0 {
             s.push(' ');
         }
-        s.push_str(&format!("{},{}", px(*x), px(*y)));
+        crate::export::number::push_hundredths(&mut s, *x);
+        s.push(',');
+        crate::export::number::push_hundredths(&mut s, *y);
     }
     s
 }

@@ -88,7 +88,17 @@ impl Writer {
     }
 
     fn num(&mut self, code: u16, v: f64) {
-        let _ = write!(self.out, "{code:>3}\n{v:.DECIMALS$}\n");
+        // The group code right-aligned in three columns, as `{code:>3}` (codes here are < 1000).
+        let pad = match code {
+            0..=9 => "  ",
+            10..=99 => " ",
+            _ => "",
+        };
+        self.out.push_str(pad);
+        crate::export::number::push_fixed(&mut self.out, f64::from(code), 0);
+        self.out.push('\n');
+        crate::export::number::push_fixed(&mut self.out, v, DECIMALS);
+        self.out.push('\n');
     }
 
     fn int(&mut self, code: u16, v: i64) {
