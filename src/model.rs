@@ -363,8 +363,25 @@ pub fn assess(
     shape_labels: Vec<&'static str>,
     evaluations: usize,
 ) -> Result<Assessment, EvalFailure> {
-    let best = evaluate(brief, curve, brief.spacing_m, brief.lateral_shift_m)?;
-    let mut verification = evaluate(brief, curve, brief.spacing_m / 4.0, brief.lateral_shift_m)?;
+    assess_reusing(brief, curve, shape_labels, evaluations, None)
+}
+
+/// [`assess`], reusing `evaluated` — this curve already evaluated at the brief's spacing and at a
+/// quarter of it (with the brief's lateral shift), as [`evaluate`] gives them — when there is one.
+pub fn assess_reusing(
+    brief: &Brief,
+    curve: &Curve<'_>,
+    shape_labels: Vec<&'static str>,
+    evaluations: usize,
+    evaluated: Option<(Evaluation, Evaluation)>,
+) -> Result<Assessment, EvalFailure> {
+    let (best, mut verification) = match evaluated {
+        Some(pair) => pair,
+        None => (
+            evaluate(brief, curve, brief.spacing_m, brief.lateral_shift_m)?,
+            evaluate(brief, curve, brief.spacing_m / 4.0, brief.lateral_shift_m)?,
+        ),
+    };
     let table = brief
         .limits_table
         .clone()

@@ -257,6 +257,7 @@ pub fn design_profile(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infe
         &curve,
         target.labels().to_vec(),
         counter.load(Ordering::Relaxed) + 2,
+        None,
         |verdict| {
             let mut reasons = Vec::new();
             for l in verdict.failures() {

@@ -133,12 +133,14 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infea
         return force_first::design_profile(brief, kind);
     };
     let counter = AtomicUsize::new(0);
+    // The polish's last full-fidelity pair: the assessment below reuses it when it is the winner.
+    let kept = size::KeptPair::default();
     let failed = |e: size::SolverFailure| solver_failure(kind, e);
     let search = shape::search_shape(brief, fam.as_ref(), &counter).map_err(failed)?;
     // The coarse upper bound the search found for its winner: the polish starts there.
     let (shape, hint) = (search.shape, search.coarse_hi_m);
     let r = match brief.objective {
-        Objective::Tallest => match size::polish_upper(brief, kind, &shape, hint, &counter)
+        Objective::Tallest => match size::polish_upper(brief, kind, &shape, hint, &counter, &kept)
             .map_err(failed)?
         {
             Some(r) => r,
@@ -164,6 +166,7 @@ pub fn design_family(brief: &Brief, kind: ShapeKind) -> Result<Assessment, Infea
         &curve,
         fam.shape_labels().to_vec(),
         counter.load(Ordering::Relaxed),
+        kept.take_at(r),
         |v| explain_failed_checks(brief, kind, v, &counter),
     )?;
     a.search_stopped = Some(search.stopped);
@@ -179,9 +182,10 @@ pub(crate) fn conclude(
     curve: &Curve<'_>,
     shape_labels: Vec<&'static str>,
     evaluations: usize,
+    evaluated: Option<(Evaluation, Evaluation)>,
     explain: impl FnOnce(&Verdict) -> Infeasible,
 ) -> Result<Assessment, Infeasible> {
-    let a = model::assess(brief, curve, shape_labels, evaluations)
+    let a = model::assess_reusing(brief, curve, shape_labels, evaluations, evaluated)
         .map_err(|e| eval_failure(brief, kind, e))?;
     // Every design keeps the design margin inside every limit at both samplings, whatever the
     // objective (a height brief minimises the peak load, a force-first loop may be used as

@@ -8,6 +8,7 @@
 
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State, TerminationReason};
 use argmin::solver::brent::BrentRoot;
+use std::cell::RefCell;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{COARSE_STATIONS_PER_RADIUS, EvalFailure, Evaluation, SEARCH_MARGIN, evaluate_shifted};
@@ -25,17 +26,20 @@ pub(crate) fn side_margin(
         (Err(EvalFailure::Stall(_)), Side::Upper) => -10.0,
         (Err(EvalFailure::Stall(_)), Side::Lower) => 1.0,
         (Err(EvalFailure::Shape(_) | EvalFailure::Fit(_)), _) => -1e3,
-        (Ok(e), side) => {
-            let mut s = e.summary;
-            s.min_radius_m = e.min_radius_m();
-            limits_of(brief)
-                .iter()
-                .filter(|l| l.kind.side() == side)
-                .map(|l| l.search_margin(l.kind.measure(&s)))
-                .fold(f64::INFINITY, f64::min)
-                - SEARCH_MARGIN
-        }
+        (Ok(e), side) => evaluation_margin(brief, e, side),
     }
+}
+
+/// [`side_margin`] of a loop that was evaluated.
+fn evaluation_margin(brief: &Brief, e: &Evaluation, side: Side) -> f64 {
+    let mut s = e.summary;
+    s.min_radius_m = e.min_radius_m();
+    limits_of(brief)
+        .iter()
+        .filter(|l| l.kind.side() == side)
+        .map(|l| l.search_margin(l.kind.measure(&s)))
+        .fold(f64::INFINITY, f64::min)
+        - SEARCH_MARGIN
 }
 
 /// Problem: margin of one side's limits as a function of ln(top radius), for a fixed shape.
@@ -47,6 +51,29 @@ pub struct SizeMargin<'a> {
     pub side: Side,
     pub fine: bool,
     pub counter: &'a AtomicUsize,
+    /// Where a full-fidelity pair is kept for reuse (see [`KeptPair`]); `None` keeps nothing.
+    pub kept: Option<&'a KeptPair>,
+}
+
+/// The last full-fidelity evaluation pair of a polish (at the brief's spacing and a quarter of
+/// it) with its top radius: the polish's closing check of the other side at the root, and the
+/// assessment of the winner, are the same two loops, so they reuse it instead of building and
+/// riding them again.
+#[derive(Default)]
+pub struct KeptPair(RefCell<Option<(u64, Evaluation, Evaluation)>>);
+
+impl KeptPair {
+    /// Both evaluations, if the kept pair is at exactly this top radius (the same bits).
+    pub fn take_at(&self, top_radius_m: f64) -> Option<(Evaluation, Evaluation)> {
+        let mut kept = self.0.borrow_mut();
+        match kept.take() {
+            Some((bits, at, quarter)) if bits == top_radius_m.to_bits() => Some((at, quarter)),
+            other => {
+                *kept = other;
+                None
+            }
+        }
+    }
 }
 
 impl SizeMargin<'_> {
@@ -91,17 +118,37 @@ impl SizeMargin<'_> {
     }
     /// The upper and lower sides' margins from the same evaluation(s), as [`Self::margin`].
     fn both_margins(&self, ln_r: f64) -> (f64, f64) {
-        let both = |e| {
+        let both = |e: &Result<Evaluation, EvalFailure>| {
             (
-                side_margin(self.brief, &e, Side::Upper),
-                side_margin(self.brief, &e, Side::Lower),
+                side_margin(self.brief, e, Side::Upper),
+                side_margin(self.brief, e, Side::Lower),
             )
         };
-        let m = both(self.eval(ln_r));
         if !self.fine {
-            return m;
+            return both(&self.eval(ln_r));
         }
-        let q = both(self.eval_at(ln_r, 0.25));
+        let both_of = |e: &Evaluation| {
+            (
+                evaluation_margin(self.brief, e, Side::Upper),
+                evaluation_margin(self.brief, e, Side::Lower),
+            )
+        };
+        let bits = ln_r.exp().to_bits();
+        let pair = self.kept.and_then(|k| match &*k.0.borrow() {
+            Some((b, at, quarter)) if *b == bits => Some((both_of(at), both_of(quarter))),
+            _ => None,
+        });
+        let (m, q) = match pair {
+            Some(margins) => margins,
+            None => {
+                let (at, quarter) = (self.eval(ln_r), self.eval_at(ln_r, 0.25));
+                let margins = (both(&at), both(&quarter));
+                if let (Some(k), Ok(at), Ok(quarter)) = (self.kept, at, quarter) {
+                    *k.0.borrow_mut() = Some((bits, at, quarter));
+                }
+                margins
+            }
+        };
         (m.0.min(q.0), m.1.min(q.1))
     }
 }
@@ -212,6 +259,7 @@ pub(crate) fn size_range_near(
         side,
         fine,
         counter,
+        kept: None,
     };
     let grid = radius_grid(brief);
     if let Some(h) = hint_m.filter(|h| h.is_finite() && *h > 0.0)
@@ -274,6 +322,7 @@ pub(crate) fn polish_upper(
     shape: &[f64],
     coarse_hi_m: Option<f64>,
     counter: &AtomicUsize,
+    kept: &KeptPair,
 ) -> Result<Option<f64>, SolverFailure> {
     // The shape search already found this shape's coarse bound: start from it rather than
     // redoing the coarse range.
@@ -291,6 +340,7 @@ pub(crate) fn polish_upper(
         side: Side::Upper,
         fine: true,
         counter,
+        kept: Some(kept),
     };
     // Start from just below the coarse bound (the planar, coarse bound is usually within a few
     // tenths of a percent), or further below, and close in by secant within ±2 %.
@@ -302,7 +352,7 @@ pub(crate) fn polish_upper(
     }) else {
         return Ok(None);
     };
-    let r = match secant_root(&mut |x| fine.margin(x), (a, fa), hi_m.ln(), (a, hi_w.ln())) {
+    let ln_r = match secant_root(&mut |x| fine.margin(x), (a, fa), hi_m.ln(), (a, hi_w.ln())) {
         Secant::Root(x) => x,
         Secant::Bracket(lo, hi) => brent_root(fine, lo, hi)?,
         Secant::Lost => {
@@ -313,14 +363,14 @@ pub(crate) fn polish_upper(
             }
             brent_root(fine, a, b)?
         }
-    }
-    .exp();
+    };
     // The lower-side limits must hold there too; otherwise let the full search decide and explain.
+    // (At the root itself, usually the secant's last evaluation: the kept pair answers.)
     let lower = SizeMargin {
         side: Side::Lower,
         ..fine
     };
-    Ok((lower.margin(r.ln()) >= 0.0).then_some(r))
+    Ok((lower.margin(ln_r) >= 0.0).then_some(ln_r.exp()))
 }
 
 /// The size range found from a neighbouring shape's upper bound `hint_m`, by a secant in 1/R on
