@@ -141,6 +141,11 @@ impl SizeMargin<'_> {
         let (m, q) = match pair {
             Some(margins) => margins,
             None => {
+                // The old pair is replaced below: let it go first (a megabyte or more, which a
+                // fresh process would otherwise fault in anew).
+                if let Some(k) = self.kept {
+                    k.0.borrow_mut().take();
+                }
                 let (at, quarter) = (self.eval(ln_r), self.eval_at(ln_r, 0.25));
                 let margins = (both(&at), both(&quarter));
                 if let (Some(k), Ok(at), Ok(quarter)) = (self.kept, at, quarter) {
