@@ -119,9 +119,7 @@ pub struct Evaluation {
     pub top_radius_m: f64,
     pub spacing_m: f64,
     pub path: Centreline,
-    /// The front car's ride (for one car, the point-mass ride).
-    pub ride: Ride,
-    /// Every car's ride.
+    /// Every car's ride (the front car's is [`Evaluation::ride`]).
     pub train: TrainRide,
     /// Worst-car figures: the checks and the search constrain the worst car.
     pub summary: Summary,
@@ -134,6 +132,11 @@ pub struct Evaluation {
 }
 
 impl Evaluation {
+    /// The front car's ride (for one car, the point-mass ride). A train always has a car.
+    pub fn ride(&self) -> &Ride {
+        &self.train.cars[0]
+    }
+
     /// The shape family, for a designed loop.
     pub fn kind(&self) -> Option<ShapeKind> {
         match &self.origin {
@@ -286,13 +289,11 @@ pub fn evaluate(
         simulate_train(&path, &conditions(brief), &train_of(brief)).map_err(EvalFailure::Stall)?;
     let (summary, cars) = summarise_train(&path, &train);
     let verdict = checks::check(&summary, &limits_of(brief));
-    let ride = train.cars[0].clone();
     Ok(Evaluation {
         origin,
         top_radius_m,
         spacing_m,
         path,
-        ride,
         train,
         summary,
         cars,

@@ -68,10 +68,10 @@ fn check_file(
 fn worst_differences(d: &Assessment, c: &Assessment) -> (f64, f64) {
     let cs: Vec<f64> = c.best.path.stations.iter().map(|s| s.s_m).collect();
     let (mut worst_n, mut worst_l): (f64, f64) = (0.0, 0.0);
-    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride.points) {
+    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride().points) {
         let i = cs.partition_point(|&s| s <= st.s_m).clamp(1, cs.len() - 1);
         let f = ((st.s_m - cs[i - 1]) / (cs[i] - cs[i - 1])).clamp(0.0, 1.0);
-        let (a, b) = (&c.best.ride.points[i - 1], &c.best.ride.points[i]);
+        let (a, b) = (&c.best.ride().points[i - 1], &c.best.ride().points[i]);
         let n = a.normal_g + f * (b.normal_g - a.normal_g);
         let l = a.lateral_g + f * (b.lateral_g - a.lateral_g);
         worst_n = worst_n.max((n - p.normal_g).abs());
@@ -292,7 +292,7 @@ fn tilted_or_widely_spread_points_are_refused_clearly() {
     // Tilted by α, gravity has a constant component sin α along the rider's left axis and the
     // curvature none (first principles): the felt lateral load is sin α everywhere.
     let want = 1.5f64.to_radians().sin();
-    for p in &c.best.ride.points {
+    for p in &c.best.ride().points {
         assert!(
             (p.lateral_g.abs() - want).abs() < 1e-6,
             "{} vs {want}",
@@ -615,9 +615,9 @@ fn shipped_examples_run() {
     let d = design(&brief).expect("the shipped force-first brief is feasible");
     let top = d.best.path.top_index();
     assert!(
-        (d.best.ride.points[top].normal_g - 0.5).abs() < 2e-3,
+        (d.best.ride().points[top].normal_g - 0.5).abs() < 2e-3,
         "{}",
-        d.best.ride.points[top].normal_g
+        d.best.ride().points[top].normal_g
     );
     let imported = read_centreline(&root.join("examples/edited-centreline.csv"), None).unwrap();
     let opts = CheckOptions {
@@ -630,7 +630,7 @@ fn shipped_examples_run() {
     // the check's load at each design station's pitch, on the loop proper where pitch rises.
     let th_top = d.best.path.stations[top].pitch_rad;
     let mut curve: Vec<(f64, f64)> = Vec::new();
-    for (st, p) in c.best.path.stations.iter().zip(&c.best.ride.points) {
+    for (st, p) in c.best.path.stations.iter().zip(&c.best.ride().points) {
         if st.pitch_rad > curve.last().map_or(1e-3, |l| l.0)
             && st.pitch_rad < 2.0 * std::f64::consts::PI - 1e-3
         {
@@ -638,7 +638,7 @@ fn shipped_examples_run() {
         }
     }
     let (mut away, mut near): (f64, f64) = (0.0, 0.0);
-    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride.points) {
+    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride().points) {
         let th = st.pitch_rad;
         if th <= curve[0].0 || th >= curve[curve.len() - 1].0 {
             continue;
@@ -921,8 +921,8 @@ fn planar_loops_give_the_previous_results() {
             let (a, p) = (&now.best.path.stations[i], &before.stations[i]);
             ds = ds.max((a.s_m - p.s_m).abs());
             dp = dp.max((a.heartline_m - p.heartline_m).norm());
-            dn = dn.max((now.best.ride.points[i].normal_g - ride.points[i].normal_g).abs());
-            dl = dl.max((now.best.ride.points[i].lateral_g - ride.points[i].lateral_g).abs());
+            dn = dn.max((now.best.ride().points[i].normal_g - ride.points[i].normal_g).abs());
+            dl = dl.max((now.best.ride().points[i].lateral_g - ride.points[i].lateral_g).abs());
         }
         eprintln!(
             "{kind:?}: planar fit now vs before: |Δn| {dn:.1e} g, |Δlat| {dl:.1e} g, |Δs| {ds:.1e} m, |Δr| {dp:.1e} m"

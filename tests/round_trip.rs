@@ -49,13 +49,13 @@ fn worst_normal_difference(d: &Assessment, c: &Assessment) -> (f64, f64) {
     let cs: Vec<f64> = c.best.path.stations.iter().map(|s| s.s_m).collect();
     let jumps: Vec<f64> = d.best.path.steps.iter().map(|j| j.s_m).collect();
     let (mut worst, mut at) = (0.0f64, 0.0);
-    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride.points) {
+    for (st, p) in d.best.path.stations.iter().zip(&d.best.ride().points) {
         if jumps.iter().any(|j| (j - st.s_m).abs() <= NEAR_JUMP_M) {
             continue;
         }
         let i = cs.partition_point(|&s| s <= st.s_m).clamp(1, cs.len() - 1);
         let f = ((st.s_m - cs[i - 1]) / (cs[i] - cs[i - 1])).clamp(0.0, 1.0);
-        let (a, b) = (&c.best.ride.points[i - 1], &c.best.ride.points[i]);
+        let (a, b) = (&c.best.ride().points[i - 1], &c.best.ride().points[i]);
         let n = a.normal_g + f * (b.normal_g - a.normal_g);
         if (n - p.normal_g).abs() > worst {
             worst = (n - p.normal_g).abs();
@@ -110,7 +110,7 @@ fn round_trip(label: &str, brief: &Brief) -> Assessment {
         assert_eq!(fit.method, FitMethod::Interpolated, "{label} {what}");
         assert!(fit.rms_residual_m < 1e-9, "{label} {what}");
         // Load steps: the same number, each of the design's size within 0.05 g.
-        let (ds, cs) = (&d.best.ride.steps, &c.best.ride.steps);
+        let (ds, cs) = (&d.best.ride().steps, &c.best.ride().steps);
         assert_eq!(ds.len(), cs.len(), "{label} {what}: steps {cs:?} vs {ds:?}");
         for (a, b) in ds.iter().zip(cs) {
             assert!(
@@ -159,7 +159,7 @@ fn circle_round_trip_reports_its_load_steps() {
     let csv = dir.path().join("own-loads.csv");
     std::fs::write(&csv, loads_csv(&d).unwrap()).unwrap();
     let c = check_file(&d.brief, &csv, None, PointsAre::Heartline);
-    let steps = &c.best.ride.steps;
+    let steps = &c.best.ride().steps;
     assert_eq!(steps.len(), 2, "{steps:?}");
     let want = v * v / (g * r);
     assert!(

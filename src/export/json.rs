@@ -113,7 +113,7 @@ pub fn report(d: &Assessment) -> Report<'_> {
         peak_onset_g_s: s.peak_onset_g_s,
         peak_onset_at: s.peak_onset_at,
         max_load_step_g: s.max_load_step_g,
-        load_steps: &d.best.ride.steps,
+        load_steps: &d.best.ride().steps,
         exit_speed_m_s: s.exit_speed_m_s,
         exit_height_m: crate::report::exit_height_m(&d.best.path),
         time_in_loop_s: s.time_in_loop_s,

@@ -237,7 +237,7 @@ pub fn loads_overlay_svg(c: &Comparison) -> String {
         let s0 = d.best.path.loop_span_m.0;
         let pts: Vec<(f64, f64)> = d
             .best
-            .ride
+            .ride()
             .points
             .iter()
             .map(|p| (p.s_m - s0, p.normal_g))

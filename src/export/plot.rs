@@ -104,7 +104,7 @@ fn worst_top_car(design: &Assessment) -> (usize, f64, f64) {
         .train
         .cars
         .get(car)
-        .unwrap_or(&design.best.ride)
+        .unwrap_or(design.best.ride())
         .points
         .get(top)
         .map_or((car, f64::NAN, f64::NAN), |p| (car, p.s_m, p.normal_g))
@@ -140,7 +140,7 @@ pub fn envelope_status(design: &Assessment) -> &'static str {
 pub fn loads_svg(design: &Assessment) -> String {
     let b = &design.brief;
     let s = &design.best.summary;
-    let pts = &design.best.ride.points;
+    let pts = &design.best.ride().points;
     let series = |f: fn(&crate::dynamics::LoadPoint) -> f64| -> Vec<(f64, f64)> {
         pts.iter().map(|p| (p.s_m, f(p))).collect()
     };

@@ -59,7 +59,7 @@ fn push_row(out: &mut Vec<u8>, first: Option<usize>, values: &[f64]) {
 
 /// The CSV bytes: heartline positions and loads at every station of the reported design.
 pub fn loads_csv(design: &Assessment) -> Result<Vec<u8>, ExportError> {
-    stations_csv(&design.best.path, &design.best.ride)
+    stations_csv(&design.best.path, design.best.ride())
 }
 
 /// The CSV bytes of any sampled path and its ride (also used by `check`).

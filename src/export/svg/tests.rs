@@ -145,7 +145,7 @@ fn span_y(p: &[(f64, f64)]) -> f64 {
 fn degenerate_designs_still_draw() {
     let mut d = circle_design(10.0);
     d.best.path.stations.truncate(1);
-    d.best.ride.points.truncate(1);
+    d.best.train.cars[0].points.truncate(1);
     d.brief.title = "bad\u{1}title <&>".into();
     for svg in [
         elevation_svg(&d),
@@ -157,7 +157,7 @@ fn degenerate_designs_still_draw() {
         assert!(svg.contains("CAUTION"));
     }
     d.best.path.stations.clear();
-    d.best.ride.points.clear();
+    d.best.train.cars[0].points.clear();
     let _ = parse(&elevation_svg(&d));
     let _ = parse(&super::super::plot::loads_svg(&d));
     assert!(super::super::dxf::dxf_bytes(&d).is_err());
