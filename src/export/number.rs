@@ -2,9 +2,10 @@
 //! Rust's own formatting (`{:.N}` and `{}` of a value rounded to hundredths).
 //!
 //! A design's tables, drawings and charts hold about 100,000 numbers; through `core::fmt` they
-//! took about a third of a whole `design` process. Here the common case is an integer
-//! multiplication and a division by ten per digit; anything outside it (ties, huge values,
-//! NaN, infinities) goes to `core::fmt`, so the text is always what `format!` would give.
+//! took about a third of a whole `design` process. Here the common case is one multiplication,
+//! a truncation to an integer and a division by a hundred per two digits; anything outside it
+//! (exact ties, huge values, NaN, infinities) goes to `core::fmt`, so the text is always what
+//! `format!` would give.
 //!
 //! ```
 //! use loopwright::export::number::{push_fixed, push_hundredths};

@@ -105,15 +105,15 @@ impl SizeMargin<'_> {
             shift,
         )
     }
-    /// The margin of this side. At full fidelity, the smaller of the margins at the brief's
-    /// spacing and at the quarter of it where the design is verified: a loop whose curvature
-    /// has a corner at the top (the spline's top slope, the double spiral) has a top load that
-    /// moves to first order with where the stations fall, so both samplings must hold.
     /// [`Self::margin`] at the search's own spacing only (a single evaluation even at full
     /// fidelity, and none kept): for points that only steer a root finder.
     fn margin_sampled_once(&self, ln_r: f64) -> f64 {
         side_margin(self.brief, &self.eval(ln_r), self.side)
     }
+    /// The margin of this side. At full fidelity, the smaller of the margins at the brief's
+    /// spacing and at the quarter of it where the design is verified: a loop whose curvature
+    /// has a corner at the top (the spline's top slope, the double spiral) has a top load that
+    /// moves to first order with where the stations fall, so both samplings must hold.
     fn margin(&self, ln_r: f64) -> f64 {
         let (up, low) = self.both_margins(ln_r);
         match self.side {
@@ -355,9 +355,9 @@ pub(crate) fn polish_upper(
     // Start from just below the coarse bound (the planar, coarse bound is usually within a few
     // tenths of a percent), or further below, and close in by secant within ±2 %.
     let hi_w = hi_m * 1.02;
-    // The start only seeds the secant (its margin is tenths of a g from the root's), so it is
-    // sampled once, at the brief's spacing: both samplings agree there to about 1e-6 g. Every
-    // later point, which decides the root, takes both.
+    // The start only seeds the secant (0.3 % or 2 % inside the coarse bound, where the margin
+    // dwarfs the difference between the two samplings), so it is sampled once, at the brief's
+    // spacing. Every later point, which decides the root, takes both.
     let Some((a, fa)) = [0.997, 0.98].into_iter().find_map(|w: f64| {
         let a = (hi_m * w).ln();
         let fa = fine.margin_sampled_once(a);
