@@ -378,14 +378,10 @@ pub fn assess_reusing(
 ) -> Result<Assessment, EvalFailure> {
     let (best, mut verification) = match evaluated {
         Some(pair) => pair,
-        None => {
-            // Two independent loops: one on each core, the same bits as one after the other.
-            let (best, verification) = rayon::join(
-                || evaluate(brief, curve, brief.spacing_m, brief.lateral_shift_m),
-                || evaluate(brief, curve, brief.spacing_m / 4.0, brief.lateral_shift_m),
-            );
-            (best?, verification?)
-        }
+        None => (
+            evaluate(brief, curve, brief.spacing_m, brief.lateral_shift_m)?,
+            evaluate(brief, curve, brief.spacing_m / 4.0, brief.lateral_shift_m)?,
+        ),
     };
     let table = brief
         .limits_table

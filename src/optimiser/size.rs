@@ -8,7 +8,7 @@
 
 use argmin::core::{CostFunction, Error as ArgminError, Executor, State, TerminationReason};
 use argmin::solver::brent::BrentRoot;
-use std::sync::{Mutex, MutexGuard};
+use std::cell::RefCell;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 use super::{COARSE_STATIONS_PER_RADIUS, EvalFailure, Evaluation, SEARCH_MARGIN, evaluate_shifted};
@@ -60,18 +60,12 @@ pub struct SizeMargin<'a> {
 /// assessment of the winner, are the same two loops, so they reuse it instead of building and
 /// riding them again.
 #[derive(Default)]
-pub struct KeptPair(Mutex<Option<(u64, Evaluation, Evaluation)>>);
-
-/// The kept pair, whatever a panicking thread left (a pair is replaced whole or not at all).
-type Kept<'a> = MutexGuard<'a, Option<(u64, Evaluation, Evaluation)>>;
+pub struct KeptPair(RefCell<Option<(u64, Evaluation, Evaluation)>>);
 
 impl KeptPair {
-    fn lock(&self) -> Kept<'_> {
-        self.0.lock().unwrap_or_else(|poisoned| poisoned.into_inner())
-    }
     /// Both evaluations, if the kept pair is at exactly this top radius (the same bits).
     pub fn take_at(&self, top_radius_m: f64) -> Option<(Evaluation, Evaluation)> {
-        let mut kept = self.lock();
+        let mut kept = self.0.borrow_mut();
         match kept.take() {
             Some((bits, at, quarter)) if bits == top_radius_m.to_bits() => Some((at, quarter)),
             other => {
@@ -145,7 +139,7 @@ impl SizeMargin<'_> {
             )
         };
         let bits = ln_r.exp().to_bits();
-        let pair = self.kept.and_then(|k| match &*k.lock() {
+        let pair = self.kept.and_then(|k| match &*k.0.borrow() {
             Some((b, at, quarter)) if *b == bits => Some((both_of(at), both_of(quarter))),
             _ => None,
         });
@@ -155,15 +149,12 @@ impl SizeMargin<'_> {
                 // The old pair is replaced below: let it go first (a megabyte or more, which a
                 // fresh process would otherwise fault in anew).
                 if let Some(k) = self.kept {
-                    k.lock().take();
+                    k.0.borrow_mut().take();
                 }
-                // The two samplings are independent loops: build and ride them on both cores
-                // (the same bits either way; a sweep's designs already fill the cores, and
-                // rayon then runs the two in turn).
-                let (at, quarter) = rayon::join(|| self.eval(ln_r), || self.eval_at(ln_r, 0.25));
+                let (at, quarter) = (self.eval(ln_r), self.eval_at(ln_r, 0.25));
                 let margins = (both(&at), both(&quarter));
                 if let (Some(k), Ok(at), Ok(quarter)) = (self.kept, at, quarter) {
-                    *k.lock() = Some((bits, at, quarter));
+                    *k.0.borrow_mut() = Some((bits, at, quarter));
                 }
                 margins
             }
