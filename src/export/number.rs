@@ -60,14 +60,20 @@ pub fn push_fixed(out: &mut impl TextSink, v: f64, decimals: usize) {
     out.push_ascii(format!("{v:.decimals$}").as_bytes());
 }
 
-/// Append `v` rounded to hundredths (half away from zero, as `f64::round`) in shortest form: the
-/// same text as `format!("{}", (v * 100.0).round() / 100.0)`. Not finite values are written as 0.
-pub fn push_hundredths(out: &mut impl TextSink, v: f64) {
-    let w = if v.is_finite() {
+/// `v` in whole hundredths (half away from zero, as `f64::round`); 0 for a value that is not
+/// finite. The charts' pixel rounding ([`crate::export::chart::px`]) divides it by 100.
+pub fn hundredths(v: f64) -> f64 {
+    if v.is_finite() {
         (v * 100.0).round()
     } else {
         0.0
-    };
+    }
+}
+
+/// Append [`hundredths`]`(v) / 100` in shortest form: the same text as
+/// `format!("{}", hundredths(v) / 100.0)`.
+pub fn push_hundredths(out: &mut impl TextSink, v: f64) {
+    let w = hundredths(v);
     // w/100 is the double nearest the decimal w/100, which has at most two decimals; below 2^40
     // doubles are far closer together than 0.01, so that decimal, trailing zeros dropped, is the
     // shortest text that reads back as the double: what `{}` prints.
@@ -83,6 +89,11 @@ pub fn push_hundredths(out: &mut impl TextSink, v: f64) {
         return;
     }
     out.push_ascii(format!("{}", w / 100.0).as_bytes());
+}
+
+/// Append the whole number `n`: the same text as `format!("{n}")`.
+pub fn push_integer(out: &mut impl TextSink, n: u64) {
+    push_scaled(out, false, n, 0);
 }
 
 /// Append `n / 10^decimals` with exactly `decimals` digits after the point (`decimals` < 20),
@@ -170,7 +181,7 @@ mod tests {
         s
     }
 
-    fn hundredths(v: f64) -> String {
+    fn hundredths_text(v: f64) -> String {
         let mut s = String::new();
         push_hundredths(&mut s, v);
         s
@@ -216,7 +227,7 @@ mod tests {
             } else {
                 0.0
             };
-            assert_eq!(hundredths(v), format!("{px}"), "{v:e} to hundredths");
+            assert_eq!(hundredths_text(v), format!("{px}"), "{v:e} to hundredths");
         }
     }
 
@@ -252,7 +263,14 @@ mod tests {
         fn hundredths_match_core_fmt(m in -1.0f64..1.0, e in -4i32..14) {
             let v = m * 10f64.powi(e);
             let px = (v * 100.0).round() / 100.0;
-            prop_assert_eq!(hundredths(v), format!("{px}"));
+            prop_assert_eq!(hundredths_text(v), format!("{px}"));
+        }
+
+        #[test]
+        fn integers_match_core_fmt(n in any::<u64>()) {
+            let mut s = String::new();
+            push_integer(&mut s, n);
+            prop_assert_eq!(s, format!("{n}"));
         }
     }
 }

@@ -95,11 +95,7 @@ pub const FONT: &str = "DejaVu Sans, Helvetica, Arial, sans-serif";
 /// A pixel coordinate rounded to 0.01 px (keeps files small; far below what a screen shows);
 /// 0 if not finite.
 pub fn px(v: f64) -> f64 {
-    if v.is_finite() {
-        (v * 100.0).round() / 100.0
-    } else {
-        0.0
-    }
+    crate::export::number::hundredths(v) / 100.0
 }
 
 /// A straight line from (x1, y1) to (x2, y2) px in `stroke` (width as the SVG default unless set).

@@ -87,26 +87,33 @@ impl Writer {
         let _ = write!(o, "100\n{class}\n");
     }
 
-    fn num(&mut self, code: u16, v: f64) {
-        // The group code right-aligned in three columns, as `{code:>3}` (codes here are < 1000).
-        let pad = match code {
+    /// A group code line: the code right-aligned in three columns, as `{code:>3}` (the codes
+    /// written here are below 1000).
+    fn group_code(&mut self, code: u16) {
+        self.out.push_str(match code {
             0..=9 => "  ",
             10..=99 => " ",
             _ => "",
-        };
-        self.out.push_str(pad);
-        crate::export::number::push_fixed(&mut self.out, f64::from(code), 0);
+        });
+        crate::export::number::push_integer(&mut self.out, u64::from(code));
         self.out.push('\n');
+    }
+
+    fn num(&mut self, code: u16, v: f64) {
+        self.group_code(code);
         crate::export::number::push_fixed(&mut self.out, v, DECIMALS);
         self.out.push('\n');
     }
 
     fn int(&mut self, code: u16, v: i64) {
-        let _ = write!(self.out, "{code:>3}\n{v}\n");
+        self.group_code(code);
+        let _ = writeln!(self.out, "{v}");
     }
 
     fn text(&mut self, code: u16, v: &str) {
-        let _ = write!(self.out, "{code:>3}\n{v}\n");
+        self.group_code(code);
+        self.out.push_str(v);
+        self.out.push('\n');
     }
 
     fn point(&mut self, code: u16, p: Vector3<f64>) {
