@@ -18,7 +18,7 @@ use crate::checks::limits::{Side, limits_of};
 /// Signed margin of one side's limits (the smallest), minus the search margin.
 pub(crate) fn side_margin(
     brief: &Brief,
-    eval: &Result<Evaluation, EvalFailure>,
+    eval: Result<&Evaluation, &EvalFailure>,
     side: Side,
 ) -> f64 {
     match (eval, side) {
@@ -26,20 +26,17 @@ pub(crate) fn side_margin(
         (Err(EvalFailure::Stall(_)), Side::Upper) => -10.0,
         (Err(EvalFailure::Stall(_)), Side::Lower) => 1.0,
         (Err(EvalFailure::Shape(_) | EvalFailure::Fit(_)), _) => -1e3,
-        (Ok(e), side) => evaluation_margin(brief, e, side),
+        (Ok(e), side) => {
+            let mut s = e.summary;
+            s.min_radius_m = e.min_radius_m();
+            limits_of(brief)
+                .iter()
+                .filter(|l| l.kind.side() == side)
+                .map(|l| l.search_margin(l.kind.measure(&s)))
+                .fold(f64::INFINITY, f64::min)
+                - SEARCH_MARGIN
+        }
     }
-}
-
-/// [`side_margin`] of a loop that was evaluated.
-fn evaluation_margin(brief: &Brief, e: &Evaluation, side: Side) -> f64 {
-    let mut s = e.summary;
-    s.min_radius_m = e.min_radius_m();
-    limits_of(brief)
-        .iter()
-        .filter(|l| l.kind.side() == side)
-        .map(|l| l.search_margin(l.kind.measure(&s)))
-        .fold(f64::INFINITY, f64::min)
-        - SEARCH_MARGIN
 }
 
 /// Problem: margin of one side's limits as a function of ln(top radius), for a fixed shape.
@@ -108,7 +105,7 @@ impl SizeMargin<'_> {
     /// [`Self::margin`] at the search's own spacing only (a single evaluation even at full
     /// fidelity, and none kept): for points that only steer a root finder.
     fn margin_sampled_once(&self, ln_r: f64) -> f64 {
-        side_margin(self.brief, &self.eval(ln_r), self.side)
+        side_margin(self.brief, self.eval(ln_r).as_ref(), self.side)
     }
     /// The margin of this side. At full fidelity, the smaller of the margins at the brief's
     /// spacing and at the quarter of it where the design is verified: a loop whose curvature
@@ -123,24 +120,18 @@ impl SizeMargin<'_> {
     }
     /// The upper and lower sides' margins from the same evaluation(s), as [`Self::margin`].
     fn both_margins(&self, ln_r: f64) -> (f64, f64) {
-        let both = |e: &Result<Evaluation, EvalFailure>| {
+        let both = |e: Result<&Evaluation, &EvalFailure>| {
             (
                 side_margin(self.brief, e, Side::Upper),
                 side_margin(self.brief, e, Side::Lower),
             )
         };
         if !self.fine {
-            return both(&self.eval(ln_r));
+            return both(self.eval(ln_r).as_ref());
         }
-        let both_of = |e: &Evaluation| {
-            (
-                evaluation_margin(self.brief, e, Side::Upper),
-                evaluation_margin(self.brief, e, Side::Lower),
-            )
-        };
         let bits = ln_r.exp().to_bits();
         let pair = self.kept.and_then(|k| match &*k.0.borrow() {
-            Some((b, at, quarter)) if *b == bits => Some((both_of(at), both_of(quarter))),
+            Some((b, at, quarter)) if *b == bits => Some((both(Ok(at)), both(Ok(quarter)))),
             _ => None,
         });
         let (m, q) = match pair {
@@ -152,7 +143,7 @@ impl SizeMargin<'_> {
                     k.0.borrow_mut().take();
                 }
                 let (at, quarter) = (self.eval(ln_r), self.eval_at(ln_r, 0.25));
-                let margins = (both(&at), both(&quarter));
+                let margins = (both(at.as_ref()), both(quarter.as_ref()));
                 if let (Some(k), Ok(at), Ok(quarter)) = (self.kept, at, quarter) {
                     *k.0.borrow_mut() = Some((bits, at, quarter));
                 }
