@@ -46,7 +46,7 @@ pub const COLUMNS: [&str; 25] = [
 fn push_row(out: &mut Vec<u8>, first: Option<usize>, values: &[f64]) {
     let mut sep: &[u8] = b"";
     if let Some(j) = first {
-        out.extend_from_slice(j.to_string().as_bytes());
+        super::number::push_integer(out, j as u64);
         sep = b",";
     }
     for v in values {
