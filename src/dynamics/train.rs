@@ -39,12 +39,15 @@ pub struct TrainRide {
     pub cars: Vec<Ride>,
 }
 
-/// Where a car is: height, unit tangent and curvature vector of the heartline there, and the
-/// lift there ([`lift_of`]; zero where the contact force is not needed).
+/// Where a car is: height, the rise of the heartline's unit tangent (sin θ), curvature vector
+/// of the heartline there, and the lift there ([`lift_of`]; zero where the contact force is not
+/// needed). Eight numbers, one cache line: the remembered places of a long train are read from
+/// a table of megabytes, so the size of a place is the cost of reading it.
 #[derive(Debug, Clone, Copy)]
+#[repr(align(64))]
 pub(super) struct CarPlace {
     pub z_m: f64,
-    pub tangent: Vector3<f64>,
+    pub tangent_z: f64,
     pub kvec: Vector3<f64>,
     pub lift: Vector3<f64>,
 }
@@ -59,7 +62,7 @@ impl CarPlace {
         };
         CarPlace {
             z_m,
-            tangent,
+            tangent_z: tangent.z,
             kvec,
             lift,
         }
@@ -178,28 +181,34 @@ pub(super) struct Tracker {
     /// Sliding mode (no rolling resistance), else `None`.
     running: Option<Sliding>,
     /// With rolling resistance: the last place worked out for each station and car offset.
-    memo: Vec<Memo>,
+    memo: Memo,
 }
 
-/// Largest table of remembered places (about 27 MB at 104 bytes a place). A long train on a
+/// Largest table of remembered places (about 20 MB at 76 bytes a place). A long train on a
 /// finely sampled path would need stations × (2N − 1) of them (a 40-car demo design's
 /// verification took the process from 92 MB to 157 MB); past this size every place is worked out
 /// afresh, which gives the same bits (a place is reused only when its arc length has the same
 /// bits), only slower.
 const MEMO_MAX_ENTRIES: usize = 1 << 18;
 
-/// A place remembered. At entry (station i, car j) car k sits at σᵢ + (j − k)·p, so the same
-/// place recurs for every (j, k) with the same offset: up to N times. Its arc length is worked
-/// out as (σᵢ + j·p) − k·p, which usually but not always rounds the same way for each pair, so
-/// a place is reused only when its arc length has the same bits: the reuse is exact.
-#[derive(Debug, Clone, Copy)]
+/// The places remembered, one cell per station and car offset. At entry (station i, car j) car
+/// k sits at σᵢ + (j − k)·p, so the same place recurs for every (j, k) with the same offset: up
+/// to N times. Its arc length is worked out as (σᵢ + j·p) − k·p, which usually but not always
+/// rounds the same way for each pair, so a place is reused only when its arc length has the
+/// same bits: the reuse is exact.
+///
+/// Three arrays rather than one of cells: the keys are read for every car at every entry and
+/// pack eight to a cache line, a place fills one line of its own, and the keys and positions
+/// start as zeroed memory.
+#[derive(Default)]
 struct Memo {
-    /// Bits of the arc length it is for (`u64::MAX`, a NaN no arithmetic makes: none yet).
-    s_bits: u64,
-    place: CarPlace,
-    /// The car's moving position after placing it there (`None`: off the path's ends, where
-    /// [`place_at`] leaves it alone).
-    cursor: Option<usize>,
+    /// Per cell, the bits of the arc length its place is for, inverted (0, the inverse of a NaN
+    /// no arithmetic makes: none yet).
+    keys: Vec<u64>,
+    places: Vec<CarPlace>,
+    /// Per cell, the car's moving position after placing it there, plus one (0: off the path's
+    /// ends, where [`place_at`] leaves it alone).
+    cursors: Vec<u32>,
 }
 
 /// The sliding sums: per station, the car whose entry they are for (+1) and the sums of height
@@ -215,15 +224,15 @@ impl Tracker {
         let running =
             (n > 0 && !with_curvature).then(|| (vec![(0, 0.0, 0.0); path.stations.len()], 0, 0));
         let entries = path.stations.len() * (2 * n).saturating_sub(1);
+        // Positions fit in u32: the table (stations × offsets) holds at most 2^18 cells.
         let memo = if n > 0 && with_curvature && entries <= MEMO_MAX_ENTRIES {
-            let none = Memo {
-                s_bits: u64::MAX,
-                place: unset,
-                cursor: None,
-            };
-            vec![none; entries]
+            Memo {
+                keys: vec![0; entries],
+                places: vec![unset; entries],
+                cursors: vec![0; entries],
+            }
         } else {
-            Vec::new()
+            Memo::default()
         };
         Tracker {
             buf: vec![unset; n],
@@ -249,14 +258,14 @@ impl Tracker {
                 let gained = place_at(path, entry.s_lead_m, ahead, false);
                 let dropped = place_at(path, entry.s_lead_m - n as f64 * pitch_m, behind, false);
                 slot.1 += gained.z_m - dropped.z_m;
-                slot.2 += gained.tangent.z - dropped.tangent.z;
+                slot.2 += gained.tangent_z - dropped.tangent_z;
                 slot.0 = entry.car + 1;
                 return (slot.1 / n as f64, slot.2 / n as f64);
             }
         }
         self.place_all(path, entry, pitch_m);
         let z = self.buf.iter().map(|c| c.z_m).sum::<f64>();
-        let tz = self.buf.iter().map(|c| c.tangent.z).sum::<f64>();
+        let tz = self.buf.iter().map(|c| c.tangent_z).sum::<f64>();
         if let Some((sums, _, _)) = self.running.as_mut() {
             sums[entry.station] = (entry.car + 1, z, tz);
         }
@@ -281,25 +290,24 @@ impl Tracker {
                 continue;
             }
             let s = entry.s_lead_m - k as f64 * pitch_m;
-            if memo.is_empty() {
+            if memo.keys.is_empty() {
                 *slot = place_at(path, s, cursor, with_curvature);
                 continue;
             }
             // Offset-major: the places of one offset are met in path order, so each offset's
             // row is read front to back (the whole table would not stay in cache).
-            let m = &mut memo[((n - 1 + entry.car) - k) * stations.len() + entry.station];
-            if m.s_bits != s.to_bits() {
+            let cell = ((n - 1 + entry.car) - k) * stations.len() + entry.station;
+            let key = !s.to_bits();
+            if memo.keys[cell] != key {
                 let place = place_at(path, s, cursor, with_curvature);
                 let on_path = s > ends_m.0 && s < ends_m.1;
-                *m = Memo {
-                    s_bits: s.to_bits(),
-                    place,
-                    cursor: on_path.then_some(*cursor),
-                };
-            } else if let Some(c) = m.cursor {
-                *cursor = c;
+                memo.keys[cell] = key;
+                memo.places[cell] = place;
+                memo.cursors[cell] = if on_path { *cursor as u32 + 1 } else { 0 };
+            } else if memo.cursors[cell] > 0 {
+                *cursor = memo.cursors[cell] as usize - 1;
             }
-            *slot = m.place;
+            *slot = memo.places[cell];
         }
     }
 
@@ -386,11 +394,11 @@ mod tests {
                         want.z_m.to_bits(),
                         "{cars} cars, s = {s}"
                     );
-                    assert_eq!((got.tangent, got.kvec), (want.tangent, want.kvec));
+                    assert_eq!((got.tangent_z, got.kvec), (want.tangent_z, want.kvec));
                     assert_eq!(got.lift, want.lift);
                 }
             }
-            let filled = tracker.memo.iter().filter(|m| m.s_bits != u64::MAX).count();
+            let filled = tracker.memo.keys.iter().filter(|&&k| k != 0).count();
             assert!(filled > 0, "{cars} cars: nothing remembered");
         }
     }
