@@ -166,7 +166,7 @@ fn kernel(c: &mut Criterion) {
     );
     let cond = Conditions::lossless(brief.entry_speed_m_s);
     let mut g = c.benchmark_group("kernel");
-    g.bench_function("centreline (planar, shift pass)", |b| {
+    g.bench_function("centreline (planar)", |b| {
         b.iter(|| {
             Centreline::build_shifted(black_box(&profile), 1.1, spacing, 0.0)
                 .stations

@@ -326,14 +326,21 @@ impl Station {
 impl Centreline {
     /// As [`Centreline::build`], with the loop spread `lateral_shift_m` to the rider's left (negative:
     /// to the right) so that the exit passes beside the entry; see the module docs. A shift of 0
-    /// gives the planar loop (to rounding).
+    /// is the planar loop itself: the spread pass would only work the same frames out again from
+    /// the derivatives (equal to rounding, as `tests/train_shift_envelope.rs` checks), and it cost
+    /// about a third of every planar centreline, which the whole shape search builds.
     pub fn build_shifted(
         profile: &CurvatureProfile,
         heartline_height_m: f64,
         spacing_m: f64,
         lateral_shift_m: f64,
     ) -> Centreline {
-        Self::build(profile, heartline_height_m, spacing_m).with_lateral_shift(lateral_shift_m)
+        let planar = Self::build(profile, heartline_height_m, spacing_m);
+        if lateral_shift_m == 0.0 {
+            planar
+        } else {
+            planar.with_lateral_shift(lateral_shift_m)
+        }
     }
 
     /// Spread a planar centreline sideways (see the module docs). Station spacing stays that of the
@@ -341,7 +348,7 @@ impl Centreline {
     ///
     /// The stations are rewritten in place (no second buffer per evaluation). A zero shift skips
     /// the arc-length integral, whose every term is then exactly 0 (y' = 0·S' = 0): σ + 0 = σ, the
-    /// same bits as integrating it, so the planar search pays only for the frames.
+    /// same bits as integrating it ([`Centreline::build_shifted`] skips the whole pass).
     pub fn with_lateral_shift(mut self, shift_m: f64) -> Centreline {
         let (a, b) = self.loop_span_m;
         let len = b - a;
