@@ -346,9 +346,9 @@ impl Centreline {
     /// Spread a planar centreline sideways (see the module docs). Station spacing stays that of the
     /// planar arc length σ; `s_m` becomes the true 3D heartline arc length.
     ///
-    /// The stations are rewritten in place (no second buffer per evaluation). A zero shift skips
-    /// the arc-length integral, whose every term is then exactly 0 (y' = 0·S' = 0): σ + 0 = σ, the
-    /// same bits as integrating it ([`Centreline::build_shifted`] skips the whole pass).
+    /// The stations are rewritten in place (no second buffer per evaluation). A zero shift makes
+    /// every term of the arc-length integral exactly 0 (y' = 0·S' = 0): σ + 0 = σ;
+    /// [`Centreline::build_shifted`] does not run the pass for it.
     pub fn with_lateral_shift(mut self, shift_m: f64) -> Centreline {
         let (a, b) = self.loop_span_m;
         let len = b - a;
@@ -364,7 +364,7 @@ impl Centreline {
         let mut s0 = 0.0;
         for (i, st) in self.stations.iter_mut().enumerate() {
             let sigma = st.s_m;
-            if i > 0 && shift_m != 0.0 {
+            if i > 0 {
                 let half = 0.5 * (sigma - s0);
                 // y'² is a polynomial of degree 8 in σ and y' stays small (|y'| ≤ 1.875·shift/len),
                 // so the excess y'²/(√(1 + y'²) + 1) ≈ y'²/2 is all but a polynomial: 4 points
