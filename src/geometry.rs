@@ -31,6 +31,7 @@
 
 pub mod fit;
 mod frame;
+mod scaled;
 
 use std::f64::consts::PI;
 use std::ops::ControlFlow;
@@ -41,6 +42,7 @@ use crate::numeric::GL4;
 use crate::shape::CurvatureProfile;
 use crate::shape::piece::{Accuracy, CurvePiece, PieceWalk};
 pub use frame::{RiderFrame, StationPlace};
+pub use scaled::UnitLoop;
 
 /// One sample of the path.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -96,11 +98,33 @@ impl Centreline {
         heartline_height_m: f64,
         spacing_m: f64,
     ) -> Centreline {
+        Self::build_from(profile, heartline_height_m, spacing_m, None)
+    }
+
+    /// [`Centreline::build`] of a loop similar to `unit` (recorded at `spacing_m / scale`),
+    /// `scale` times its size: each loop station's displacement is the unit one scaled instead
+    /// of integrated again (see [`UnitLoop`]). Equal to the build to rounding.
+    pub fn build_scaled(
+        profile: &CurvatureProfile,
+        heartline_height_m: f64,
+        spacing_m: f64,
+        unit: &UnitLoop,
+        scale: f64,
+    ) -> Centreline {
+        Self::build_from(profile, heartline_height_m, spacing_m, Some((unit, scale)))
+    }
+
+    fn build_from(
+        profile: &CurvatureProfile,
+        heartline_height_m: f64,
+        spacing_m: f64,
+        unit: Option<(&UnitLoop, f64)>,
+    ) -> Centreline {
         // Room for every station up front: the search builds thousands of paths.
         let segments = profile.segments().len();
         let mut stations =
             Vec::with_capacity((profile.length_m() / spacing_m) as usize + 3 * segments + 1);
-        let steps = sample_profile(profile, spacing_m, |p| {
+        let steps = sample_profile(profile, spacing_m, unit, |p| {
             stations.push(planar_station(p, heartline_height_m));
             ControlFlow::Continue(())
         });
@@ -140,7 +164,7 @@ impl Centreline {
         let slack_m = 1e-9 + 1e-11 * profile.length_m();
         let mut first_z = None;
         let mut top_z = f64::MIN;
-        sample_profile(profile, spacing_m, |p| {
+        sample_profile(profile, spacing_m, None, |p| {
             let z0 = *first_z.get_or_insert(p.z_m);
             // As `top`: the last maximum in total order.
             if p.z_m.total_cmp(&top_z).is_ge() {
@@ -224,6 +248,7 @@ struct PlanarSample {
 fn sample_profile(
     profile: &CurvatureProfile,
     spacing_m: f64,
+    unit: Option<(&UnitLoop, f64)>,
     mut visit: impl FnMut(PlanarSample) -> ControlFlow<()>,
 ) -> Vec<CurvatureStep> {
     let mut steps = Vec::new();
@@ -236,9 +261,7 @@ fn sample_profile(
         let theta0 = profile.segment_pitch_rad(i);
         let curve = seg.piece();
         let k_start = curve.curvature_1_m(0.0);
-        let n = ((seg.length_m / spacing_m).ceil() as usize).max(2);
-        // Even counts put a station on every segment midpoint too.
-        let n = n + n % 2;
+        let n = station_count(seg.length_m, spacing_m);
         let first = match prev_end_curv {
             None => 0,
             Some(k_prev) if (k_prev - k_start).abs() > 1e-12 * (1.0 + k_prev.abs()) => {
@@ -255,9 +278,13 @@ fn sample_profile(
         };
         // The start terms are worked out once per segment, not per station.
         let mut walk = curve.walk(theta0, Accuracy::DEFAULT);
+        let scaled = unit.and_then(|(u, scale)| Some((u.segment(profile, i, n, scale)?, scale)));
         for j in first..=n {
             let t = seg.length_m * j as f64 / n as f64;
-            let (dx, dz) = walk.to(t);
+            let (dx, dz) = match scaled {
+                Some((d, scale)) => (scale * d[j].0, scale * d[j].1),
+                None => walk.to(t),
+            };
             let s_m = s0 + t;
             let in_loop = s_m >= loop_span_m.0 - 1e-9 && s_m <= loop_span_m.1 + 1e-9;
             let sample = PlanarSample {
@@ -274,12 +301,22 @@ fn sample_profile(
                 return steps;
             }
         }
-        let (dx, dz) = walk.end();
+        let (dx, dz) = match scaled {
+            Some((d, scale)) => (scale * d[n + 1].0, scale * d[n + 1].1),
+            None => walk.end(),
+        };
         x += dx;
         z += dz;
         prev_end_curv = Some(curve.curvature_1_m(seg.length_m));
     }
     steps
+}
+
+/// Station intervals of a segment `length_m` long sampled every `spacing_m` or closer: at least
+/// two, and even, so that a station sits on every segment midpoint too.
+fn station_count(length_m: f64, spacing_m: f64) -> usize {
+    let n = ((length_m / spacing_m).ceil() as usize).max(2);
+    n + n % 2
 }
 
 fn planar_station(p: PlanarSample, heartline_height_m: f64) -> Station {

@@ -21,13 +21,15 @@
 //! ```
 
 use nalgebra::Vector3;
+use std::cell::RefCell;
+use std::rc::Rc;
 
 use crate::brief::{Brief, ShapeKind};
 use crate::checks::envelope::{EnvelopeReport, EnvelopeTable, evaluate as evaluate_envelope};
 use crate::checks::{self, CarSummary, Summary, Verdict, limits_of, summarise_train};
 use crate::dynamics::{Conditions, Ride, Stall, Train, TrainRide, simulate_train};
-use crate::geometry::Centreline;
 use crate::geometry::fit::{FitError, FitOptions, FitReport, PointsAre, fit_centreline};
+use crate::geometry::{Centreline, UnitLoop};
 use crate::import::ImportedCentreline;
 use crate::shape::{CurvatureProfile, family};
 
@@ -209,6 +211,53 @@ pub fn conditions(brief: &Brief) -> Conditions {
     }
 }
 
+/// The shape search's coarse sampling: stations per metre of top radius (spacing R/16).
+pub(crate) const COARSE_STATIONS_PER_RADIUS: f64 = 16.0;
+
+/// The loop of one family shape at unit top radius, sampled as the coarse search samples it, so
+/// that the size search's next sizes of the same shape scale it ([`Centreline::build_scaled`])
+/// instead of integrating every station again. One per thread (sweeps design on several): the
+/// size search asks for one shape at several sizes in a row. Only when the loop is planar and
+/// sampled at exactly R/[`COARSE_STATIONS_PER_RADIUS`] — whether this shape was seen before or
+/// not, so that an evaluation's result never depends on what ran before it.
+struct UnitLoopMemo {
+    kind: ShapeKind,
+    shape_bits: Vec<u64>,
+    lead_bits: u64,
+    unit: Rc<UnitLoop>,
+}
+
+thread_local! {
+    static UNIT_LOOP: RefCell<Option<UnitLoopMemo>> = const { RefCell::new(None) };
+}
+
+/// The unit-radius loop of `kind` and `shape` with leads of `lead_m`, from the thread's memo or
+/// recorded afresh; `None` when the family cannot build it.
+fn unit_loop(kind: ShapeKind, shape: &[f64], lead_m: f64) -> Option<Rc<UnitLoop>> {
+    let shape_bits: Vec<u64> = shape.iter().map(|v| v.to_bits()).collect();
+    UNIT_LOOP.with(|memo| {
+        let mut memo = memo.borrow_mut();
+        if let Some(m) = memo.as_ref()
+            && m.kind == kind
+            && m.shape_bits == shape_bits
+            && m.lead_bits == lead_m.to_bits()
+        {
+            return Some(m.unit.clone());
+        }
+        let profile = family(kind)?
+            .curvature_with_leads(shape, 1.0, lead_m)
+            .ok()?;
+        let unit = Rc::new(UnitLoop::record(&profile, 1.0 / COARSE_STATIONS_PER_RADIUS));
+        *memo = Some(UnitLoopMemo {
+            kind,
+            shape_bits,
+            lead_bits: lead_m.to_bits(),
+            unit: unit.clone(),
+        });
+        Some(unit)
+    })
+}
+
 /// Build the centreline of `curve` sampled every `spacing_m` (a family loop spread sideways by
 /// `lateral_shift_m`; a drawing keeps its own shape), with where it came from.
 fn centreline(
@@ -217,13 +266,23 @@ fn centreline(
     spacing_m: f64,
     lateral_shift_m: f64,
 ) -> Result<(Centreline, Origin), EvalFailure> {
+    // The coarse search's planar loops are their shape's unit loop scaled.
+    let scale_from = match curve {
+        Curve::Family {
+            kind,
+            shape,
+            top_radius_m,
+        } if lateral_shift_m == 0.0 && spacing_m == *top_radius_m / COARSE_STATIONS_PER_RADIUS => {
+            unit_loop(*kind, shape, brief.lead_length_m).map(|u| (u, *top_radius_m))
+        }
+        _ => None,
+    };
     let family_loop = |kind: ShapeKind, shape: &[f64], profile: CurvatureProfile| {
-        let path = Centreline::build_shifted(
-            &profile,
-            brief.heartline_height_m,
-            spacing_m,
-            lateral_shift_m,
-        );
+        let h = brief.heartline_height_m;
+        let path = match scale_from {
+            Some((ref unit, size)) => Centreline::build_scaled(&profile, h, spacing_m, unit, size),
+            None => Centreline::build_shifted(&profile, h, spacing_m, lateral_shift_m),
+        };
         let origin = Origin::Family {
             kind,
             shape: shape.to_vec(),

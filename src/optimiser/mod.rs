@@ -45,8 +45,8 @@ use crate::shape::family;
 /// Limits are met with this much to spare during the search (g, g/s or m), so that the finer
 /// verification sampling cannot tip a design that sits exactly on a limit over it.
 pub(crate) const SEARCH_MARGIN: f64 = 1e-4;
-/// Coarse search sampling: stations per top radius.
-pub(crate) const COARSE_STATIONS_PER_RADIUS: f64 = 16.0;
+/// Coarse search sampling: stations per top radius (the model scales loops sampled so).
+pub(crate) use crate::model::COARSE_STATIONS_PER_RADIUS;
 /// Relative room a shape's coarse size window must have to count as feasible (see `shape_cost`).
 pub(crate) const SIZE_SLACK: f64 = 0.005;
 /// Intervals of the first scan over a one-parameter shape family, before Brent refines the best.

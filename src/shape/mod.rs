@@ -178,6 +178,10 @@ impl CurvatureProfile {
     pub fn segments(&self) -> &[CurvatureSegment] {
         &self.segments
     }
+    /// Indices of the first and last segment of the loop proper (inclusive).
+    pub fn loop_range(&self) -> (usize, usize) {
+        self.loop_range
+    }
     /// Arc length where segment `i` starts.
     pub fn segment_start_m(&self, i: usize) -> f64 {
         self.starts_m[i]
