@@ -232,7 +232,7 @@ thread_local! {
 }
 
 /// The unit-radius loop of `kind` and `shape` with leads of `lead_m`, from the thread's memo or
-/// recorded afresh; `None` when the family cannot build it.
+/// recorded afresh; `None` when the family cannot build it or it has nothing to scale.
 fn unit_loop(kind: ShapeKind, shape: &[f64], lead_m: f64) -> Option<Rc<UnitLoop>> {
     let shape_bits: Vec<u64> = shape.iter().map(|v| v.to_bits()).collect();
     UNIT_LOOP.with(|memo| {
@@ -242,7 +242,7 @@ fn unit_loop(kind: ShapeKind, shape: &[f64], lead_m: f64) -> Option<Rc<UnitLoop>
             && m.shape_bits == shape_bits
             && m.lead_bits == lead_m.to_bits()
         {
-            return Some(m.unit.clone());
+            return (!m.unit.is_empty()).then(|| m.unit.clone());
         }
         let profile = family(kind)?
             .curvature_with_leads(shape, 1.0, lead_m)
@@ -254,7 +254,9 @@ fn unit_loop(kind: ShapeKind, shape: &[f64], lead_m: f64) -> Option<Rc<UnitLoop>
             lead_bits: lead_m.to_bits(),
             unit: unit.clone(),
         });
-        Some(unit)
+        // A loop without cubic pieces has nothing to scale; remembered too, so the next size
+        // of the same shape records nothing again.
+        (!unit.is_empty()).then_some(unit)
     })
 }
 

@@ -8,15 +8,19 @@
 //! station count at every size, each station sits at R times its unit arc length, and its
 //! displacement along the segment is R times the unit one. Scaled and integrated displacements
 //! differ by rounding only (`tests/train_shift_envelope.rs` holds them together for every
-//! family). The lead track has a fixed length, so it is integrated as always; so is any segment
-//! whose length or station count does not match (a family that is not similar, or a count that
-//! rounds the other way).
+//! family). Only pieces integrated by quadrature (cubic curvature: the variable-radius family)
+//! are scaled: the closed forms (straight, arc, the clothoid's Fresnel integrals) cost about as
+//! much to evaluate as to scale, so loops made of them are built exactly as before, to the bit.
+//! The lead track has a fixed length and is integrated as always; so is any segment whose length
+//! or station count does not match (a family that is not similar, or a count that rounds the
+//! other way).
 
 use super::station_count;
 use crate::shape::CurvatureProfile;
-use crate::shape::piece::{Accuracy, CurvePiece, PieceWalk};
+use crate::shape::piece::{Accuracy, AnyPiece, CurvePiece, PieceWalk};
 
-/// A loop's station displacements at unit size, segment by segment (loop segments only).
+/// A loop's station displacements at unit size, segment by segment (its loop segments of cubic
+/// curvature only).
 #[derive(Debug, Clone)]
 pub struct UnitLoop {
     segments: Vec<Option<UnitSegment>>,
@@ -41,7 +45,8 @@ impl UnitLoop {
             .iter()
             .enumerate()
             .map(|(i, seg)| {
-                if i < first || i > last {
+                let quadrature = matches!(seg.piece(), AnyPiece::Cubic(_));
+                if i < first || i > last || !quadrature {
                     return None;
                 }
                 let n = station_count(seg.length_m, spacing_m);
@@ -60,6 +65,12 @@ impl UnitLoop {
             })
             .collect();
         UnitLoop { segments }
+    }
+
+    /// Whether the loop has no segment to scale (no cubic curvature): building it scaled would be
+    /// building it.
+    pub fn is_empty(&self) -> bool {
+        self.segments.iter().all(Option::is_none)
     }
 
     /// The unit displacements of segment `i` of a profile scaled by `scale`, when that segment
@@ -90,8 +101,9 @@ mod tests {
 
     // Similar figures (elementary geometry): every family's loop at top radius R is its unit
     // loop scaled by R, so the scaled build must reproduce the integrated build (itself checked
-    // against mpmath's Fresnel integrals and the arc's closed form) to rounding, station by
-    // station, at the coarse sampling R/16, with every loop segment taken from the unit loop.
+    // against the arc's closed form and mpmath's Fresnel integrals) to rounding, station by
+    // station, at the coarse sampling R/16, with every cubic loop segment taken from the unit
+    // loop and every other one integrated (the same bits as the build).
     #[test]
     fn scaled_unit_loop_matches_the_integrated_build() {
         let per_radius = 16.0;
@@ -112,12 +124,17 @@ mod tests {
                     let spacing = r / per_radius;
                     let (first, last) = profile.loop_range();
                     for i in first..=last {
-                        let n = station_count(profile.segments()[i].length_m, spacing);
-                        assert!(
+                        let seg = &profile.segments()[i];
+                        let n = station_count(seg.length_m, spacing);
+                        let cubic = matches!(seg.piece(), AnyPiece::Cubic(_));
+                        assert_eq!(
                             unit.segment(&profile, i, n, r).is_some(),
-                            "{kind} {shape:?} R {r}: segment {i} not scaled"
+                            cubic,
+                            "{kind} {shape:?} R {r}: segment {i}"
                         );
                     }
+                    // The variable-radius family is the one made of cubic pieces.
+                    assert_eq!(unit.is_empty(), kind != ShapeKind::Spline, "{kind}");
                     let direct = Centreline::build(&profile, 1.1, spacing);
                     let scaled = Centreline::build_scaled(&profile, 1.1, spacing, &unit, r);
                     assert_eq!(direct.stations.len(), scaled.stations.len());
