@@ -1,14 +1,13 @@
 //! Similar loops: a family loop at any size is its unit-size loop scaled, so the costly part of a
-//! centreline — each station's displacement along its piece (Fresnel integrals, quadrature) — is
-//! worked out once per shape at unit size and scaled for each size the size search tries.
+//! centreline — each station's displacement along a piece integrated by quadrature — is worked
+//! out once per shape at unit size and scaled for each size the size search tries.
 //!
 //! A family's loop segments at top radius R are its unit-radius segments with every length ×R
 //! and every curvature ÷R (similar figures: turn angles, and so pitches, do not change). At a
 //! spacing proportional to R — the shape search's coarse sampling — each segment has the same
 //! station count at every size, each station sits at R times its unit arc length, and its
 //! displacement along the segment is R times the unit one. Scaled and integrated displacements
-//! differ by rounding only (`tests/train_shift_envelope.rs` holds them together for every
-//! family). Only pieces integrated by quadrature (cubic curvature: the variable-radius family)
+//! differ by rounding only (this module's tests hold them together for every family). Only pieces integrated by quadrature (cubic curvature: the variable-radius family)
 //! are scaled: the closed forms (straight, arc, the clothoid's Fresnel integrals) cost about as
 //! much to evaluate as to scale, so loops made of them are built exactly as before, to the bit.
 //! The lead track has a fixed length and is integrated as always; so is any segment whose length
