@@ -217,9 +217,10 @@ pub(crate) const COARSE_STATIONS_PER_RADIUS: f64 = 16.0;
 /// The loop of one family shape at unit top radius, sampled as the coarse search samples it, so
 /// that the size search's next sizes of the same shape scale it ([`Centreline::build_scaled`])
 /// instead of integrating every station again. One per thread (sweeps design on several): the
-/// size search asks for one shape at several sizes in a row. Only when the loop is planar and
-/// sampled at exactly R/[`COARSE_STATIONS_PER_RADIUS`] — whether this shape was seen before or
-/// not, so that an evaluation's result never depends on what ran before it.
+/// size search asks for one shape at several sizes in a row. Only when the loop is planar,
+/// sampled at exactly R/[`COARSE_STATIONS_PER_RADIUS`] and has pieces to scale
+/// ([`UnitLoop::scales_any`]) — whether this shape was seen before or not, so that an
+/// evaluation's result never depends on what ran before it.
 struct UnitLoopMemo {
     kind: ShapeKind,
     shape_bits: Vec<u64>,
@@ -254,8 +255,6 @@ fn unit_loop(kind: ShapeKind, shape: &[f64], lead_m: f64) -> Option<Rc<UnitLoop>
             lead_bits: lead_m.to_bits(),
             unit: unit.clone(),
         });
-        // A loop without cubic pieces has nothing to scale; remembered too, so the next size
-        // of the same shape records nothing again.
         (!unit.is_empty()).then_some(unit)
     })
 }
@@ -268,21 +267,13 @@ fn centreline(
     spacing_m: f64,
     lateral_shift_m: f64,
 ) -> Result<(Centreline, Origin), EvalFailure> {
-    // The coarse search's planar loops are their shape's unit loop scaled.
-    let scale_from = match curve {
-        Curve::Family {
-            kind,
-            shape,
-            top_radius_m,
-        } if lateral_shift_m == 0.0 && spacing_m == *top_radius_m / COARSE_STATIONS_PER_RADIUS => {
-            unit_loop(*kind, shape, brief.lead_length_m).map(|u| (u, *top_radius_m))
-        }
-        _ => None,
-    };
-    let family_loop = |kind: ShapeKind, shape: &[f64], profile: CurvatureProfile| {
+    let family_loop = |kind: ShapeKind,
+                       shape: &[f64],
+                       profile: CurvatureProfile,
+                       scale_from: Option<(Rc<UnitLoop>, f64)>| {
         let h = brief.heartline_height_m;
         let path = match scale_from {
-            Some((ref unit, size)) => Centreline::build_scaled(&profile, h, spacing_m, unit, size),
+            Some((unit, size)) => Centreline::build_scaled(&profile, h, spacing_m, &unit, size),
             None => Centreline::build_shifted(&profile, h, spacing_m, lateral_shift_m),
         };
         let origin = Origin::Family {
@@ -306,13 +297,20 @@ fn centreline(
             let profile = fam
                 .curvature_with_leads(shape, *top_radius_m, brief.lead_length_m)
                 .map_err(|e| EvalFailure::Shape(e.to_string()))?;
-            Ok(family_loop(*kind, shape, profile))
+            // The coarse search's planar loops are their shape's unit loop scaled.
+            let coarse_planar =
+                lateral_shift_m == 0.0 && spacing_m == *top_radius_m / COARSE_STATIONS_PER_RADIUS;
+            let scale_from = (coarse_planar && UnitLoop::scales_any(&profile))
+                .then(|| unit_loop(*kind, shape, brief.lead_length_m))
+                .flatten()
+                .map(|u| (u, *top_radius_m));
+            Ok(family_loop(*kind, shape, profile, scale_from))
         }
         Curve::Solved {
             kind,
             shape,
             profile,
-        } => Ok(family_loop(*kind, shape, profile.clone())),
+        } => Ok(family_loop(*kind, shape, profile.clone(), None)),
         Curve::Drawing(d) => {
             let opts = FitOptions {
                 tolerance_m: d.tolerance_m,

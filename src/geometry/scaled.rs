@@ -7,16 +7,17 @@
 //! spacing proportional to R — the shape search's coarse sampling — each segment has the same
 //! station count at every size, each station sits at R times its unit arc length, and its
 //! displacement along the segment is R times the unit one. Scaled and integrated displacements
-//! differ by rounding only (this module's tests hold them together for every family). Only pieces integrated by quadrature (cubic curvature: the variable-radius family)
-//! are scaled: the closed forms (straight, arc, the clothoid's Fresnel integrals) cost about as
-//! much to evaluate as to scale, so loops made of them are built exactly as before, to the bit.
+//! differ by rounding only (this module's tests hold them together for every family). Only
+//! pieces integrated by quadrature (cubic curvature: the variable-radius family) are scaled: the
+//! closed forms (straight, arc, the clothoid's Fresnel integrals) cost about as much to evaluate
+//! as to scale, so loops made of them are built exactly as before, to the bit.
 //! The lead track has a fixed length and is integrated as always; so is any segment whose length
 //! or station count does not match (a family that is not similar, or a count that rounds the
 //! other way).
 
 use super::station_count;
-use crate::shape::CurvatureProfile;
 use crate::shape::piece::{Accuracy, AnyPiece, CurvePiece, PieceWalk};
+use crate::shape::{CurvatureProfile, CurvatureSegment};
 
 /// A loop's station displacements at unit size, segment by segment (its loop segments of cubic
 /// curvature only).
@@ -34,7 +35,22 @@ struct UnitSegment {
     displacement_m: Vec<(f64, f64)>,
 }
 
+/// Whether this module scales `seg`: a piece integrated by quadrature (cubic curvature).
+fn is_scaled(seg: &CurvatureSegment) -> bool {
+    matches!(seg.piece(), AnyPiece::Cubic(_))
+}
+
 impl UnitLoop {
+    /// Whether the loop proper of `profile` has a segment a unit loop would scale; without one a
+    /// scaled build is the build, and recording a unit loop is wasted work.
+    pub fn scales_any(profile: &CurvatureProfile) -> bool {
+        let (first, last) = profile.loop_range();
+        profile
+            .segments()
+            .get(first..=last)
+            .is_some_and(|loop_segments| loop_segments.iter().any(is_scaled))
+    }
+
     /// Walk the loop segments of `unit_profile` (the loop at unit top radius, leads included)
     /// at `spacing_m` (the sampling per metre of top radius) as [`super::Centreline::build`] would.
     pub fn record(unit_profile: &CurvatureProfile, spacing_m: f64) -> UnitLoop {
@@ -44,8 +60,7 @@ impl UnitLoop {
             .iter()
             .enumerate()
             .map(|(i, seg)| {
-                let quadrature = matches!(seg.piece(), AnyPiece::Cubic(_));
-                if i < first || i > last || !quadrature {
+                if i < first || i > last || !is_scaled(seg) {
                     return None;
                 }
                 let n = station_count(seg.length_m, spacing_m);
@@ -134,6 +149,7 @@ mod tests {
                     }
                     // The variable-radius family is the one made of cubic pieces.
                     assert_eq!(unit.is_empty(), kind != ShapeKind::Spline, "{kind}");
+                    assert_eq!(UnitLoop::scales_any(&profile), kind == ShapeKind::Spline);
                     let direct = Centreline::build(&profile, 1.1, spacing);
                     let scaled = Centreline::build_scaled(&profile, 1.1, spacing, &unit, r);
                     assert_eq!(direct.stations.len(), scaled.stations.len());

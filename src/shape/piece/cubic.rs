@@ -8,7 +8,7 @@
 //! precision, on their own (lower-degree) polynomial.
 
 use super::{Accuracy, CurvePiece, PieceWalk};
-use crate::numeric::{GL4, GL8, cubic_integral, cubic_value};
+use crate::numeric::{GL4, GL8, cubic_integral, cubic_second, cubic_slope, cubic_value};
 
 /// Most quadrature sub-intervals in one call: a bound on the work hostile input can ask for.
 const MAX_PARTS: usize = 100_000;
@@ -144,7 +144,6 @@ pub fn quadrature_displacement(
     // A search's coarse stations turn up to ~0.2 rad per sub-interval: six terms serve them.
     let short_series = half_turn <= SHORT_SERIES_TURN_RAD;
     let (mut dx, mut dz) = (0.0, 0.0);
-    let [_, c1, c2, c3] = *coeffs;
     for p in 0..parts {
         // One sine and cosine per sub-interval, at its midpoint m; each node's pitch is
         // θ(m) + Δ with |Δ| ≤ half_turn, whose sine and cosine a short Taylor series gives to
@@ -152,15 +151,13 @@ pub fn quadrature_displacement(
         // The library's sincos was most of a coarse station's cost, four times per interval.
         let m = t0 + h * (p as f64 + 0.5);
         let (sin_m, cos_m) = (theta0 + cubic_integral(coeffs, m)).sin_cos();
-        // κ about m: κ(m + u) = k0 + k1·u + k2·u² + c3·u³, so
-        // Δ(u) = ∫₀ᵘ κ(m + v) dv = u·(k0 + u·(k1/2 + u·(k2/3 + u·c3/4))).
-        let k1 = c1 + m * (2.0 * c2 + m * 3.0 * c3);
-        let k2 = c2 + 3.0 * c3 * m;
+        // κ about m: κ(m + u) = κ + κ'·u + (κ''/2)·u² + c3·u³, so
+        // Δ(u) = ∫₀ᵘ κ(m + v) dv = u·(κ + u·(κ'/2 + u·(κ''/6 + u·c3/4))).
         let turn_poly = [
             cubic_value(coeffs, m),
-            0.5 * k1,
-            k2 * (1.0 / 3.0),
-            0.25 * c3,
+            0.5 * cubic_slope(coeffs, m),
+            0.5 * cubic_second(coeffs, m) * (1.0 / 3.0),
+            0.25 * coeffs[3],
         ];
         let (sum_c, sum_s) = match (coarse, short_series) {
             (true, true) => node_sums::<4, 6>(&GL4, h, &turn_poly),
